@@ -1,0 +1,60 @@
+// The height-model stage: pressure (and temperature) -> height above the
+// reference, with the partial derivatives the uncertainty stage needs.
+#pragma once
+
+#include <memory>
+#include <optional>
+#include <string_view>
+
+namespace baroz {
+
+/// The reference the model measures from, at one sample's time. The
+/// reference manager produces one per sample (constant for a fixed reference,
+/// time-varying for a base station or a drift correction).
+struct ReferencePoint {
+  double pressure_pa = 0.0;     ///< reference (ground) pressure p_ref [Pa]
+  double temperature_k = 0.0;   ///< reference (ground) air temperature [K]
+  /// Geopotential altitude of the reference level above MSL [m'], used only
+  /// to place the column in the gravity field for the geopotential ->
+  /// geometric conversion (USSA76 eq. 18). NaN: the model uses the standard
+  /// atmosphere's altitude of p_ref.
+  double datum_geopotential_m = 0.0;
+};
+
+/// What a model gives for one sample. Heights are metres above the reference
+/// level; derivatives are of the geometric height.
+struct HeightEval {
+  double height_m = 0.0;          ///< geometric height above the reference [m]
+  double geopotential_m = 0.0;    ///< geopotential height above the reference [m']
+  double dh_dp = 0.0;             ///< d height / d p        [m Pa^-1]
+  double dh_dpref = 0.0;          ///< d height / d p_ref    [m Pa^-1]
+  double dh_dt = 0.0;             ///< d height / d T (measured or reference) [m K^-1]
+  double dh_dtmodel = 0.0;        ///< d height / d (uniform offset of the model's temperature profile) [m K^-1]
+  bool extrapolated = false;      ///< evaluated outside the model's valid range
+  bool valid = true;              ///< false: the model cannot give a height (see reason)
+  std::string_view reason;        ///< why not valid, e.g. "pressure below the standard atmosphere's range"
+};
+
+/// The height models. Names pinned by the product specification.
+enum class ModelKind { kIsothermal, kStandard, kProfile, kAuto };
+/// The pinned name: "isothermal", "standard", "profile" or "auto".
+std::string_view model_name(ModelKind kind);
+/// The kind of a pinned name (exact, lower-case match); nullopt otherwise.
+std::optional<ModelKind> parse_model_name(std::string_view name);
+
+/// A height model. One instance per run (instances may cache and are not
+/// shared between threads).
+class HeightModel {
+ public:
+  virtual ~HeightModel() = default;
+  virtual ModelKind kind() const = 0;
+  /// Whether the model needs a per-sample temperature (rows without one are
+  /// then rejected).
+  virtual bool needs_sample_temperature() const = 0;
+  /// Height of a sample of pressure `pressure_pa` [Pa] and air temperature
+  /// `temperature_k` [K] (NaN when unknown) above `ref`.
+  virtual HeightEval evaluate(double pressure_pa, double temperature_k,
+                              const ReferencePoint& ref) = 0;
+};
+
+}  // namespace baroz
