@@ -1,0 +1,256 @@
+#include "baroz/output/manifest.hpp"
+
+#include <cmath>
+
+#include "baroz/core/constants.hpp"
+#include "baroz/core/time.hpp"
+#include "baroz/output/json_writer.hpp"
+
+namespace baroz {
+namespace {
+
+std::string_view format_name(LogFormat f) {
+  switch (f) {
+    case LogFormat::kCsv: return "csv";
+    case LogFormat::kNdjson: return "ndjson";
+    case LogFormat::kAuto: break;
+  }
+  return "auto";
+}
+
+std::string delimiter_name(char d) {
+  if (d == '\t') return "tab";
+  return std::string(1, d);
+}
+
+void write_time(JsonWriter& j, bool absolute, TimeNs t) {
+  if (absolute) j.value(format_rfc3339_utc(t));
+  else j.value(static_cast<double>(t) * 1e-9);
+}
+
+void write_reference(JsonWriter& j, const HeightReport& r) {
+  if (!r.reference) {
+    j.null();
+    return;
+  }
+  const Reference& ref = *r.reference;
+  j.begin_object();
+  j.key("kind"); j.value(reference_kind_name(ref.kind));
+  j.key("pressure_hpa"); j.value(ref.point.pressure_pa / 100.0);
+  j.key("temperature_k"); j.value(ref.point.temperature_k);
+  j.key("temperature_source"); j.value(ref.temperature_source);
+  j.key("qnh_hpa");
+  if (std::isnan(ref.qnh_pa)) j.null(); else j.value(ref.qnh_pa / 100.0);
+  j.key("datum_geopotential_m"); j.value(ref.point.datum_geopotential_m);
+  j.key("window");
+  if (!ref.window) {
+    j.null();
+  } else {
+    const ReferenceWindow& w = *ref.window;
+    j.begin_object();
+    j.key("auto_detected"); j.value(w.auto_detected);
+    j.key("start"); write_time(j, r.absolute_time, w.start_ns);
+    j.key("end"); write_time(j, r.absolute_time, w.end_ns);
+    j.key("start_elapsed_s"); j.value(static_cast<double>(w.start_ns - r.first_time_ns) * 1e-9);
+    j.key("end_elapsed_s"); j.value(static_cast<double>(w.end_ns - r.first_time_ns) * 1e-9);
+    j.key("samples"); j.value(static_cast<std::uint64_t>(w.samples));
+    j.key("samples_averaged"); j.value(static_cast<std::uint64_t>(w.used));
+    j.key("pressure_hpa"); j.value(w.pressure_pa / 100.0);
+    j.key("pressure_sd_hpa"); j.value(w.pressure_sd_pa / 100.0);
+    j.key("temperature_k"); j.value(w.temperature_k);
+    j.key("launch_found"); j.value(w.launch_found);
+    j.key("launch");
+    if (w.launch_found) write_time(j, r.absolute_time, w.launch_ns); else j.null();
+    j.key("launch_elapsed_s");
+    if (w.launch_found) j.value(static_cast<double>(w.launch_ns - r.first_time_ns) * 1e-9);
+    else j.null();
+    j.key("noise_sigma_hpa"); j.value(w.noise_sigma_pa / 100.0);
+    j.key("departure_threshold_hpa"); j.value(w.threshold_pa / 100.0);
+    j.end_object();
+  }
+  j.key("notes");
+  j.begin_array();
+  for (const auto& n : ref.notes) j.value(n);
+  j.end_array();
+  j.end_object();
+}
+
+}  // namespace
+
+std::string height_manifest(const ManifestRun& run, const HeightOptions& o,
+                            std::span<const HeightReport> reports) {
+  JsonWriter j(JsonStyle::kPretty);
+  j.begin_object();
+  j.key("tool"); j.value("baroz");
+  j.key("version"); j.value(BAROZ_VERSION);
+  j.key("command"); j.value("height");
+  j.key("arguments");
+  j.begin_array();
+  for (const auto& a : run.arguments) j.value(a);
+  j.end_array();
+
+  j.key("inputs");
+  j.begin_array();
+  for (std::size_t i = 0; i < reports.size(); ++i) {
+    const HeightReport& r = reports[i];
+    j.begin_object();
+    j.key("path"); j.value(r.source);
+    j.key("sha256"); j.value(r.sha256);
+    j.key("bytes"); j.value(r.bytes);
+    j.key("output"); j.value(i < run.outputs.size() ? run.outputs[i] : std::string("-"));
+    j.key("format"); j.value(format_name(r.layout.format));
+    if (r.layout.format == LogFormat::kCsv) {
+      j.key("delimiter"); j.value(delimiter_name(r.layout.delimiter));
+    }
+    j.key("byte_order_mark"); j.value(r.layout.had_bom);
+    j.key("crlf"); j.value(r.layout.crlf);
+    j.key("columns");
+    j.begin_object();
+    for (std::size_t role = 0; role < kRoleCount; ++role) {
+      j.key(role_name(static_cast<Role>(role)));
+      if (!r.columns.has(static_cast<Role>(role))) {
+        j.null();
+        continue;
+      }
+      j.begin_object();
+      j.key("name"); j.value(r.columns.name[role]);
+      std::string unit;
+      switch (static_cast<Role>(role)) {
+        case Role::kTime:
+          unit = r.columns.time_format == TimeFormat::kRfc3339
+                     ? "rfc3339"
+                     : std::string(time_unit_name(r.columns.time_unit));
+          break;
+        case Role::kPressure: unit = unit_name(r.columns.pressure_unit); break;
+        case Role::kTemperature: unit = unit_name(r.columns.temperature_unit); break;
+        case Role::kHumidity: unit = "%"; break;
+        case Role::kLat:
+        case Role::kLon: unit = "degrees"; break;
+        case Role::kGnssAlt: unit = unit_name(r.columns.gnss_alt_unit); break;
+        case Role::kCount: break;
+      }
+      j.key("unit"); j.value(unit);
+      j.key("unit_from"); j.value(r.columns.unit_source[role]);
+      j.end_object();
+    }
+    j.end_object();
+    j.key("time_zone_for_times_without_zone"); j.value(run.time_zone);
+    j.key("absolute_time"); j.value(r.absolute_time);
+    j.key("first_time"); write_time(j, r.absolute_time, r.first_time_ns);
+    j.key("last_time"); write_time(j, r.absolute_time, r.last_time_ns);
+    j.key("nominal_interval_s"); j.value(static_cast<double>(r.nominal_interval_ns) * 1e-9);
+    j.key("rows_read"); j.value(r.rows_read);
+    j.key("rows_written"); j.value(r.rows_written);
+    j.key("rows_rejected"); j.value(r.rows_rejected);
+    j.key("rejected_by_reason");
+    j.begin_object();
+    for (std::size_t k = 0; k < r.rejected_by_reason.size(); ++k)
+      if (r.rejected_by_reason[k] > 0) {
+        j.key(reject_code(static_cast<RejectReason>(k)));
+        j.value(r.rejected_by_reason[k]);
+      }
+    j.end_object();
+    j.key("flagged");
+    j.begin_object();
+    j.key("gap"); j.value(r.gaps);
+    j.key("time_backwards"); j.value(r.time_backwards);
+    j.key("time_duplicate"); j.value(r.time_duplicates);
+    j.end_object();
+    j.key("stopped_by_strict"); j.value(r.stopped_by_strict);
+    j.key("model");
+    j.begin_object();
+    j.key("requested"); j.value(model_name(o.model));
+    j.key("chosen"); j.value(model_name(r.model));
+    j.key("reason"); j.value(r.model_reason);
+    j.end_object();
+    j.key("reference"); write_reference(j, r);
+    j.end_object();
+  }
+  j.end_array();
+
+  j.key("options");
+  j.begin_object();
+  j.key("model"); j.value(model_name(o.model));
+  j.key("temperature_model");
+  j.value(o.temperature_model == IsothermalTemperature::kMean ? "mean" : "reference");
+  j.key("reference_kind"); j.value(reference_kind_name(o.reference.kind));
+  j.key("ref_pressure_hpa");
+  if (o.reference.kind == ReferenceKind::kPressure) j.value(o.reference.pressure_pa / 100.0);
+  else j.null();
+  j.key("qnh_hpa");
+  if (o.reference.kind == ReferenceKind::kQnh) j.value(o.reference.pressure_pa / 100.0);
+  else j.null();
+  j.key("ref_window_s");
+  if (o.reference.window_s) j.value(*o.reference.window_s); else j.value("auto");
+  j.key("ref_temperature_k");
+  if (o.reference.temperature_k) j.value(*o.reference.temperature_k); else j.null();
+  j.key("elevation_m");
+  if (o.reference.elevation_m) j.value(*o.reference.elevation_m); else j.null();
+  j.key("stationary_min_departure_hpa"); j.value(o.reference.stationary.min_departure_pa / 100.0);
+  j.key("stationary_noise_multiple"); j.value(o.reference.stationary.noise_multiple);
+  j.key("stationary_sustain_s"); j.value(o.reference.stationary.sustain_s);
+  j.key("stationary_baseline_span_s"); j.value(o.reference.stationary.baseline_span_s);
+  j.key("sigma_p_hpa"); j.value(o.budget.sigma_p_pa / 100.0);
+  j.key("sigma_ref_hpa"); j.value(o.budget.sigma_ref_pa / 100.0);
+  j.key("sigma_t_k"); j.value(o.budget.sigma_t_k);
+  j.key("sigma_t_model_k"); j.value(o.budget.sigma_t_model_k);
+  j.key("confidence"); j.value(o.budget.confidence);
+  j.key("coverage_factor");
+  j.value(reports.empty() ? kMissing : reports.front().coverage_factor);
+  j.key("p_range_hpa");
+  j.begin_array();
+  j.value(o.validation.p_min_pa / 100.0);
+  j.value(o.validation.p_max_pa / 100.0);
+  j.end_array();
+  j.key("temperature_range_k");
+  j.begin_array();
+  j.value(o.validation.t_min_k);
+  j.value(o.validation.t_max_k);
+  j.end_array();
+  j.key("gap_factor"); j.value(o.validation.gap_factor);
+  j.key("height_unit"); j.value(unit_name(o.series.height_unit));
+  j.key("output_format"); j.value(o.series.format == OutputFormat::kCsv ? "csv" : "ndjson");
+  j.key("height_decimals"); j.value(static_cast<std::int64_t>(o.series.height_decimals));
+  j.key("pressure_decimals"); j.value(static_cast<std::int64_t>(o.series.pressure_decimals));
+  j.key("temperature_decimals");
+  j.value(static_cast<std::int64_t>(o.series.temperature_decimals));
+  j.key("elapsed_decimals"); j.value(static_cast<std::int64_t>(o.series.elapsed_decimals));
+  j.key("strict"); j.value(o.strict);
+  j.key("decimal_comma"); j.value(o.decimal_comma);
+  j.key("rejects"); if (run.rejects_path.empty()) j.null(); else j.value(run.rejects_path);
+  j.end_object();
+
+  j.key("constants");
+  j.begin_object();
+  j.key("g0_m_s2"); j.value(constants::kG0);
+  j.key("r_star_j_mol_k"); j.value(constants::kRStar);
+  j.key("m0_kg_mol"); j.value(constants::kM0);
+  j.key("r_air_j_kg_k"); j.value(constants::kRAir);
+  j.key("r0_m"); j.value(constants::kR0);
+  j.key("p0_pa"); j.value(constants::kP0);
+  j.key("t0_k"); j.value(constants::kT0);
+  j.key("foot_m"); j.value(constants::kFoot);
+  j.key("source");
+  j.value("U.S. Standard Atmosphere, 1976 (NOAA-S/T 76-1562), Table 2 and Table 4");
+  j.end_object();
+
+  j.key("output_columns");
+  j.begin_array();
+  if (!reports.empty())
+    for (const auto& c : reports.front().output_columns) {
+      j.begin_object();
+      j.key("name"); j.value(c.name);
+      j.key("units"); if (c.units.empty()) j.null(); else j.value(c.units);
+      j.key("standard_name");
+      if (c.standard_name.empty()) j.null(); else j.value(c.standard_name);
+      j.key("description"); j.value(c.description);
+      j.end_object();
+    }
+  j.end_array();
+  j.end_object();
+  std::string doc = j.str();
+  doc += '\n';
+  return doc;
+}
+
+}  // namespace baroz
