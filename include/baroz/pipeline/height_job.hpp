@@ -1,0 +1,75 @@
+// One run of `baroz height` over one input: the whole pipeline
+//   reader -> validation -> reference -> model -> uncertainty -> writer
+// wired together, streaming, with constant memory apart from the bounded
+// prefix held back while the reference window is being found.
+#pragma once
+
+#include <array>
+#include <cstdint>
+#include <functional>
+#include <optional>
+#include <string>
+#include <vector>
+
+#include "baroz/io/byte_source.hpp"
+#include "baroz/io/columns.hpp"
+#include "baroz/io/record.hpp"
+#include "baroz/models/height_model.hpp"
+#include "baroz/models/isothermal_model.hpp"
+#include "baroz/output/series_writer.hpp"
+#include "baroz/pipeline/diagnostics.hpp"
+#include "baroz/reference/reference.hpp"
+#include "baroz/uncertainty/error_budget.hpp"
+#include "baroz/validation/validator.hpp"
+
+namespace baroz {
+
+class RejectsWriter;
+
+struct HeightOptions {
+  ReaderOptions reader;
+  ColumnOptions columns;
+  bool decimal_comma = false;
+  ValidationOptions validation;
+  ReferenceOptions reference;
+  ModelKind model = ModelKind::kAuto;
+  IsothermalTemperature temperature_model = IsothermalTemperature::kReference;
+  ErrorBudgetOptions budget;
+  SeriesOptions series;      ///< altitude and gnss_alt are decided by the job
+  bool strict = false;
+};
+
+/// What one run did, for the count line, the manifest and the tests.
+struct HeightReport {
+  std::string source;
+  std::string sha256;
+  std::uint64_t bytes = 0;
+  LogLayout layout;
+  ColumnMap columns;
+  bool absolute_time = false;
+  std::uint64_t rows_read = 0;
+  std::uint64_t rows_written = 0;
+  std::uint64_t rows_rejected = 0;
+  std::array<std::uint64_t, static_cast<std::size_t>(RejectReason::kCount)> rejected_by_reason{};
+  bool stopped_by_strict = false;
+  ModelKind model = ModelKind::kStandard;
+  std::string model_reason;
+  std::optional<Reference> reference;
+  double coverage_factor = 0.0;
+  TimeNs first_time_ns = 0;
+  TimeNs last_time_ns = 0;
+  TimeNs nominal_interval_ns = 0;
+  std::uint64_t gaps = 0, time_backwards = 0, time_duplicates = 0;
+  double max_height_m = kMissing;
+  std::vector<ColumnInfo> output_columns;
+  std::vector<std::string> notes;
+};
+
+/// Runs the pipeline on `input`, writing the series to `output`.
+/// Row problems go to `diagnostics` (and `rejects` when given). Setup
+/// problems throw baroz::Error. The caller decides the exit status from the
+/// report (no usable rows, --strict).
+HeightReport run_height_job(ByteSource& input, ByteSink& output, const HeightOptions& options,
+                            Diagnostics& diagnostics, RejectsWriter* rejects);
+
+}  // namespace baroz

@@ -1,0 +1,347 @@
+#include "baroz/pipeline/height_job.hpp"
+
+#include <cmath>
+#include <memory>
+
+#include <fmt/format.h>
+
+#include "baroz/core/constants.hpp"
+#include "baroz/core/error.hpp"
+#include "baroz/core/time.hpp"
+#include "baroz/io/sample_decoder.hpp"
+#include "baroz/models/geopotential.hpp"
+#include "baroz/models/standard_model.hpp"
+#include "baroz/output/rejects_writer.hpp"
+
+namespace baroz {
+namespace {
+
+std::string format_hpa(double pa) { return fmt::format("{:.2f} hPa", pa / 100.0); }
+
+/// Seconds between two times, for notes.
+double seconds(TimeNs a, TimeNs b) { return static_cast<double>(b - a) * 1e-9; }
+
+/// The job's state while it runs.
+class HeightJob {
+ public:
+  HeightJob(ByteSource& input, ByteSink& output, const HeightOptions& options,
+            Diagnostics& diagnostics, RejectsWriter* rejects)
+      : input_(input), output_(output), options_(options), diag_(diagnostics), rejects_(rejects) {}
+
+  HeightReport run();
+
+ private:
+  void choose_model();
+  bool reject(const RowProblem& problem);
+  bool emit(Sample& sample, bool in_window);
+  void hold(const Sample& sample);
+  bool release_held();
+  void start_writer();
+  void resolve_reference(bool end_of_input);
+
+  ByteSource& input_;
+  ByteSink& output_;
+  const HeightOptions& options_;
+  Diagnostics& diag_;
+  RejectsWriter* rejects_;
+  HeightReport report_;
+
+  std::unique_ptr<RecordReader> reader_;
+  std::unique_ptr<HeightModel> model_;
+  std::unique_ptr<StandardModel> altimeter_;  // --qnh
+  std::unique_ptr<ErrorBudget> budget_;
+  std::unique_ptr<ReferenceResolver> resolver_;
+  std::unique_ptr<SeriesWriter> writer_;
+  Reference reference_;
+  bool have_reference_ = false;
+  bool have_first_time_ = false;
+  TimeNs first_time_ns_ = 0;
+  // --qnh without --elevation: altitude of the reference window.
+  HeightEval altitude_ref_{};
+  double elevation_m_ = kMissing;
+
+  // Samples held back until the reference is known (bounded, see
+  // ReferenceOptions::max_window_samples). Their time text lives in one arena.
+  struct Held {
+    Sample sample;
+    std::size_t text_offset = 0;
+    std::size_t text_size = 0;
+  };
+  std::vector<Held> held_;
+  std::string held_text_;
+  RowProblem problem_;
+};
+
+void HeightJob::choose_model() {
+  const bool has_temperature = report_.columns.has(Role::kTemperature);
+  ModelKind kind = options_.model;
+  if (kind == ModelKind::kAuto) {
+    kind = ModelKind::kStandard;
+    report_.model_reason =
+        has_temperature
+            ? "auto: the log has an air-temperature column, but the profile model is not in "
+              "this version; using standard"
+            : "auto: no air-temperature column; using standard";
+  } else {
+    report_.model_reason = fmt::format("{}: chosen with --model", model_name(kind));
+  }
+  if (kind == ModelKind::kProfile)
+    throw usage_error("--model profile: the profile model is not available in this version");
+  if (options_.reference.kind == ReferenceKind::kQnh && kind != ModelKind::kStandard)
+    throw usage_error(fmt::format(
+        "--qnh uses the standard atmosphere's altimeter relation; it cannot be combined with "
+        "--model {}",
+        model_name(kind)));
+  report_.model = kind;
+  if (kind == ModelKind::kIsothermal) {
+    if (options_.temperature_model == IsothermalTemperature::kMean && !has_temperature)
+      throw input_error(fmt::format(
+          "{}: --temperature-model mean needs an air-temperature column", input_.name()));
+    model_ = std::make_unique<IsothermalModel>(options_.temperature_model);
+  } else {
+    model_ = std::make_unique<StandardModel>();
+  }
+}
+
+bool HeightJob::reject(const RowProblem& problem) {
+  ++report_.rows_rejected;
+  ++report_.rejected_by_reason[static_cast<std::size_t>(problem.reason)];
+  if (rejects_) rejects_->write(input_.name(), problem);
+  if (options_.strict) {
+    diag_.fatal_row_problem(input_.name(), problem);
+    report_.stopped_by_strict = true;
+    return false;
+  }
+  diag_.row_problem(input_.name(), problem);
+  return true;
+}
+
+void HeightJob::start_writer() {
+  SeriesOptions so = options_.series;
+  so.altitude = options_.reference.kind == ReferenceKind::kQnh ||
+                options_.reference.elevation_m.has_value();
+  so.gnss_alt = report_.columns.has(Role::kGnssAlt);
+  writer_ = std::make_unique<SeriesWriter>(
+      output_, so, report_.columns.time_format == TimeFormat::kNumber);
+  report_.output_columns = writer_->columns();
+  writer_->write_header();
+}
+
+bool HeightJob::emit(Sample& s, bool in_window) {
+  if (in_window) s.flags |= kFlagReferenceWindow;
+  HeightEval e;
+  double altitude = kMissing;
+  if (altimeter_) {
+    // Altimeter relation: altitude = Z(H(p) - H(QNH)) (product spec, --qnh).
+    const ReferencePoint msl{reference_.qnh_pa, reference_.point.temperature_k, 0.0};
+    e = altimeter_->evaluate(s.pressure_pa, s.temperature_k, msl);
+    if (e.valid) {
+      altitude = e.height_m;
+      if (!std::isnan(elevation_m_)) {
+        e.height_m -= elevation_m_;
+        e.geopotential_m -= geopotential_from_geometric(elevation_m_);
+      } else {
+        // Measured from the window's altitude: the QNH error cancels, the
+        // window's pressure error enters instead.
+        e.height_m -= altitude_ref_.height_m;
+        e.geopotential_m -= altitude_ref_.geopotential_m;
+        e.dh_dpref = -altitude_ref_.dh_dp;
+        e.dh_dtmodel -= altitude_ref_.dh_dtmodel;
+      }
+    }
+  } else {
+    e = model_->evaluate(s.pressure_pa, s.temperature_k, reference_.point);
+    if (e.valid && !std::isnan(elevation_m_)) altitude = elevation_m_ + e.height_m;
+  }
+  if (!e.valid) {
+    problem_.reason = std::isnan(s.temperature_k) && model_->needs_sample_temperature()
+                          ? RejectReason::kNoTemperature
+                          : RejectReason::kOutsideModel;
+    problem_.line = s.line;
+    problem_.record = 0;
+    problem_.column = report_.columns.name[static_cast<std::size_t>(
+        problem_.reason == RejectReason::kNoTemperature ? Role::kTemperature : Role::kPressure)];
+    problem_.field = -1;
+    problem_.message = fmt::format("{}: {}", model_name(report_.model), e.reason);
+    problem_.raw = {};
+    return reject(problem_);
+  }
+  if (e.extrapolated) s.flags |= kFlagExtrapolated;
+  const HeightSigma sigma = budget_->evaluate(e);
+  const double half = budget_->coverage_factor() * sigma.total_m;
+
+  if (!have_first_time_) {
+    have_first_time_ = true;
+    first_time_ns_ = s.time_ns;
+    report_.first_time_ns = s.time_ns;
+  }
+  report_.last_time_ns = s.time_ns;
+  if (std::isnan(report_.max_height_m) || e.height_m > report_.max_height_m)
+    report_.max_height_m = e.height_m;
+
+  SeriesRow row;
+  row.time_text = s.time_text;
+  row.elapsed_ns = s.time_ns - first_time_ns_;
+  row.pressure_pa = s.pressure_pa;
+  row.temperature_k = s.temperature_k;
+  row.height_m = e.height_m;
+  row.height_low_m = e.height_m - half;
+  row.height_high_m = e.height_m + half;
+  row.altitude_m = altitude;
+  row.geopotential_m = e.geopotential_m;
+  row.gnss_alt_m = s.gnss_alt_m;
+  row.flags = s.flags;
+  writer_->write_row(row);
+  ++report_.rows_written;
+  return true;
+}
+
+void HeightJob::hold(const Sample& s) {
+  Held h;
+  h.sample = s;
+  h.sample.time_text = {};
+  h.text_offset = held_text_.size();
+  h.text_size = s.time_text.size();
+  held_text_.append(s.time_text);
+  held_.push_back(h);
+}
+
+bool HeightJob::release_held() {
+  for (std::size_t i = 0; i < held_.size(); ++i) {
+    Held& h = held_[i];
+    h.sample.time_text = std::string_view(held_text_).substr(h.text_offset, h.text_size);
+    if (!emit(h.sample, resolver_->in_window(i))) return false;
+  }
+  held_.clear();
+  held_text_.clear();
+  return true;
+}
+
+void HeightJob::resolve_reference(bool end_of_input) {
+  reference_ = resolver_->resolve(end_of_input, input_.name());
+  have_reference_ = true;
+  const std::string& src = input_.name();
+  for (const auto& n : reference_.notes) diag_.note(src, n);
+  if (reference_.window) {
+    const ReferenceWindow& w = *reference_.window;
+    std::string t = std::isnan(w.temperature_k)
+                        ? std::string()
+                        : fmt::format(", {:.2f} C", w.temperature_k - constants::kZeroCelsius);
+    std::string msg = fmt::format(
+        "reference window {} {:.3f} to {:.3f} s ({} samples{}, mean {}, sd {:.3f} hPa{})",
+        w.auto_detected ? "(auto)" : "(--ref-window)", seconds(w.start_ns, w.start_ns),
+        seconds(w.start_ns, w.end_ns), w.samples,
+        w.used != w.samples ? fmt::format(", {} averaged", w.used) : std::string(),
+        format_hpa(w.pressure_pa), w.pressure_sd_pa / 100.0, t);
+    if (w.launch_found) msg += fmt::format("; launch at {:.3f} s", seconds(w.start_ns, w.launch_ns));
+    diag_.note(src, msg);
+  }
+  if (reference_.kind == ReferenceKind::kPressure)
+    diag_.note(src, fmt::format("reference pressure {} (--ref-pressure)",
+                                format_hpa(reference_.point.pressure_pa)));
+  if (reference_.kind == ReferenceKind::kQnh) {
+    diag_.note(src, fmt::format("altimeter setting QNH {}", format_hpa(reference_.qnh_pa)));
+    altimeter_ = std::make_unique<StandardModel>();
+    if (std::isnan(elevation_m_)) {
+      const ReferencePoint msl{reference_.qnh_pa, reference_.point.temperature_k, 0.0};
+      altitude_ref_ = altimeter_->evaluate(reference_.point.pressure_pa, kMissing, msl);
+      if (!altitude_ref_.valid)
+        throw input_error(fmt::format("{}: the reference window's pressure is outside the "
+                                      "standard atmosphere", src));
+      diag_.note(src, fmt::format("height_m is measured from the window's altitude {:.3f} m "
+                                  "(give --elevation to measure from the site elevation)",
+                                  altitude_ref_.height_m));
+    }
+  }
+  if (model_->kind() == ModelKind::kIsothermal)
+    diag_.note(src, fmt::format("isothermal reference temperature {:.2f} K ({})",
+                                reference_.point.temperature_k, reference_.temperature_source));
+  report_.reference = reference_;
+}
+
+HeightReport HeightJob::run() {
+  report_.source = input_.name();
+  reader_ = open_record_reader(input_, options_.reader);
+  report_.layout = reader_->layout();
+  report_.columns = map_columns(report_.layout.columns, options_.columns, input_.name());
+  choose_model();
+  diag_.note(input_.name(), fmt::format("model {} ({})", model_name(report_.model),
+                                        report_.model_reason));
+  budget_ = std::make_unique<ErrorBudget>(options_.budget);
+  report_.coverage_factor = budget_->coverage_factor();
+  elevation_m_ = options_.reference.elevation_m ? *options_.reference.elevation_m : kMissing;
+  resolver_ = std::make_unique<ReferenceResolver>(
+      options_.reference, model_->kind() == ModelKind::kIsothermal,
+      report_.columns.has(Role::kTemperature));
+
+  SampleDecoder decoder(report_.columns, options_.decimal_comma,
+                        report_.layout.format == LogFormat::kCsv);
+  Validator validator(options_.validation, decoder.columns());
+  bool writer_started = false;
+  bool holding = resolver_->needs_window();
+  if (!holding) {
+    resolve_reference(false);
+  }
+
+  Record record;
+  Sample sample;
+  while (reader_->next(record)) {
+    ++report_.rows_read;
+    if (!decoder.decode(record, sample, problem_)) {
+      if (!reject(problem_)) break;
+      continue;
+    }
+    if (!validator.check(sample, problem_, record.raw, record.index)) {
+      if (!reject(problem_)) break;
+      continue;
+    }
+    if (!writer_started) {
+      // The time format is known after the first accepted record.
+      report_.columns = decoder.columns();
+      start_writer();
+      writer_started = true;
+    }
+    if (holding) {
+      hold(sample);
+      if (resolver_->feed(sample)) {
+        resolve_reference(false);
+        holding = false;
+        if (!release_held()) break;
+      }
+      continue;
+    }
+    if (!emit(sample, false)) break;
+  }
+  if (!report_.stopped_by_strict && holding && !held_.empty()) {
+    resolve_reference(true);
+    release_held();
+  }
+  report_.absolute_time = decoder.absolute_time();
+  report_.nominal_interval_ns = validator.nominal_interval_ns();
+  report_.gaps = validator.gaps();
+  report_.time_backwards = validator.backwards();
+  report_.time_duplicates = validator.duplicates();
+  if (!writer_started) {
+    report_.columns = decoder.columns();
+    start_writer();
+  }
+  writer_->flush();
+  // Hash the whole input, also when --strict stopped early.
+  char drain[1 << 16];
+  while (input_.read(drain, sizeof drain) > 0) {
+  }
+  report_.bytes = input_.bytes_read();
+  report_.sha256 = input_.sha256_hex();
+  diag_.finish_source(input_.name());
+  return report_;
+}
+
+}  // namespace
+
+HeightReport run_height_job(ByteSource& input, ByteSink& output, const HeightOptions& options,
+                            Diagnostics& diagnostics, RejectsWriter* rejects) {
+  HeightJob job(input, output, options, diagnostics, rejects);
+  return job.run();
+}
+
+}  // namespace baroz
