@@ -226,6 +226,7 @@ int run_inspect(const InspectArgs& a, const Streams& streams) {
   for (std::size_t i = 0; i < inputs.size(); ++i) {
     try {
       auto source = open_input(inputs[i], streams);
+      source->enable_hashing();
       InspectReport rep = run_inspect_job(*source, o, diag);
       if (i > 0 && !a.json) streams.out << '\n';
       streams.out << (a.json ? json_report(rep) : text_report(rep));

@@ -51,7 +51,11 @@ std::size_t read_fd(int fd, char* buffer, std::size_t capacity, const std::strin
 class FdSource : public ByteSource {
  public:
   FdSource(int fd, std::string name, bool owned)
-      : ByteSource(std::move(name)), fd_(fd), owned_(owned) {}
+      : ByteSource(std::move(name)), fd_(fd), owned_(owned) {
+    struct stat info {};
+    regular_ = ::fstat(fd_, &info) == 0 && S_ISREG(info.st_mode);
+  }
+  bool is_regular_file() const override { return regular_; }
   ~FdSource() override {
     if (owned_) ::close(fd_);
   }
@@ -66,6 +70,7 @@ class FdSource : public ByteSource {
  private:
   int fd_;
   bool owned_;
+  bool regular_ = false;
 };
 
 class IstreamSource : public ByteSource {
@@ -105,6 +110,7 @@ class IstreamSource : public ByteSource {
 
 class StringSource : public ByteSource {
  public:
+  bool is_regular_file() const override { return true; }  // never blocks
   StringSource(std::string data, std::string name)
       : ByteSource(std::move(name)), data_(std::move(data)) {}
 

@@ -1,6 +1,6 @@
 // Where a reader's bytes come from: a file, standard input, or a string.
-// Every byte read passes through the source's SHA-256 so that the manifest
-// can record the input's checksum without a second pass.
+// When asked, every byte read passes through the source's SHA-256 so that the
+// manifest can record the input's checksum without a second pass.
 #pragma once
 
 #include <cstddef>
@@ -22,15 +22,24 @@ class ByteSource {
   /// on a read error.
   std::size_t read(char* buffer, std::size_t capacity) {
     std::size_t n = read_some(buffer, capacity);
-    hasher_.update(buffer, n);
+    if (hashing_) hasher_.update(buffer, n);
     bytes_ += n;
     return n;
   }
+  /// Whether reading can never wait for data to arrive (a regular file or a
+  /// string), so it may be read ahead on another thread.
+  virtual bool is_regular_file() const { return false; }
   /// Name used in messages: the path as given, or "<stdin>".
   const std::string& name() const { return name_; }
   std::uint64_t bytes_read() const { return bytes_; }
-  /// SHA-256 of everything read so far (call once, at the end).
-  std::string sha256_hex() { return Sha256::to_hex(hasher_.finish()); }
+  /// Hashing costs about as much as all the rest of the reading, so it is
+  /// off unless a consumer needs the checksum (--manifest, inspect). Turn it
+  /// on before the first read.
+  void enable_hashing() { hashing_ = true; }
+  bool hashing() const { return hashing_; }
+  /// SHA-256 of everything read so far (call once, at the end); empty when
+  /// hashing is off.
+  std::string sha256_hex() { return hashing_ ? Sha256::to_hex(hasher_.finish()) : std::string(); }
 
  protected:
   explicit ByteSource(std::string name) : name_(std::move(name)) {}
@@ -40,6 +49,7 @@ class ByteSource {
   std::string name_;
   Sha256 hasher_;
   std::uint64_t bytes_ = 0;
+  bool hashing_ = false;
 };
 
 /// Opens a file for reading; throws baroz::Error (input) naming the path and
