@@ -125,8 +125,17 @@ TEST_CASE("parse_decimal_time rejects values outside int64 nanoseconds", "[core]
   CHECK_FALSE(parse_decimal_time("99999999999999999999999999", TimeUnit::kNanoseconds));
 }
 
+TEST_CASE("parse_decimal_time reads JSON exponent forms exactly", "[core][time]") {
+  // JSON writers may write numbers with an exponent (RFC 8259 §6).
+  CHECK(parse_decimal_time("4.0e0", TimeUnit::kSeconds) == 4'000'000'000LL);
+  CHECK(parse_decimal_time("1.7330976001e9", TimeUnit::kSeconds) == 1'733'097'600'100'000'000LL);
+  CHECK(parse_decimal_time("1E5", TimeUnit::kMilliseconds) == 100'000'000'000LL);
+  CHECK(parse_decimal_time("25e-3", TimeUnit::kSeconds) == 25'000'000LL);
+  CHECK(parse_decimal_time("-1.5e-9", TimeUnit::kSeconds) == -2LL);  // half away from zero
+}
+
 TEST_CASE("parse_decimal_time rejects malformed numbers", "[core][time]") {
-  for (const char* text : {"", "+", "-", ".", "+.", "-.", "1e5", "1E5", "1e-3", " 1", "1 ", "1 2",
+  for (const char* text : {"", "+", "-", ".", "+.", "-.", "1e", "e5", "1e+", "1e5.5", " 1", "1 ", "1 2",
                            "1..2", "1.2.3", "0x10", "1,5", "--1", "+-1", "-+1", "abc", "1s", "nan",
                            "inf", "\t1", "1_000", "١"}) {
     INFO(text);

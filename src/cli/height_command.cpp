@@ -61,6 +61,8 @@ HeightOptions resolve_options(const HeightArgs& a) {
     throw usage_error(fmt::format(
         "--model: \"{}\" is not a model (auto, isothermal, standard, profile)", a.model));
   o.model = *model;
+  if (o.model == ModelKind::kProfile)
+    throw usage_error("--model profile: the profile model is not available in this version");
   if (a.temperature_model == "mean") o.temperature_model = IsothermalTemperature::kMean;
   else o.temperature_model = IsothermalTemperature::kReference;
 
@@ -86,6 +88,12 @@ HeightOptions resolve_options(const HeightArgs& a) {
       throw usage_error("--ref-temperature: the temperature must be above 0 K");
   }
   if (!a.elevation.empty()) r.elevation_m = parse_length_option(a.elevation, "--elevation");
+  if (r.kind == ReferenceKind::kQnh && o.model == ModelKind::kIsothermal)
+    throw usage_error(
+        "--qnh uses the standard atmosphere's altimeter relation; it cannot be combined with "
+        "--model isothermal");
+  if (o.temperature_model == IsothermalTemperature::kMean && o.model != ModelKind::kIsothermal)
+    throw usage_error("--temperature-model applies to --model isothermal only");
 
   ErrorBudgetOptions& b = o.budget;
   auto sigma = [](const std::string& text, const char* option, double (*parse)(std::string_view, std::string_view),
@@ -159,10 +167,11 @@ struct InputResult {
 
 InputResult run_one(const std::string& input, const std::string& output,
                     const HeightOptions& options, const Streams& streams, Diagnostics& diag,
-                    RejectsWriter* rejects, bool batch) {
+                    RejectsWriter* rejects, bool batch, bool hash_inputs) {
   InputResult result;
   try {
     std::unique_ptr<ByteSource> source = open_input(input, streams);
+    if (hash_inputs) source->enable_hashing();
     std::unique_ptr<ByteSink> sink = output == "-"
                                          ? make_ostream_sink(streams.out, "standard output")
                                          : make_atomic_file_sink(output);
@@ -171,9 +180,8 @@ InputResult run_one(const std::string& input, const std::string& output,
     const HeightReport& r = result.report;
     diag.counts(r.source, batch, r.rows_read, r.rows_written, r.rows_rejected);
     if (r.stopped_by_strict) {
-      diag.error(fmt::format("{}: stopped at the first rejected row (--strict); no output "
-                             "written",
-                             r.source));
+      diag.error(fmt::format("{}: stopped at the first rejected row (--strict){}", r.source,
+                             output == "-" ? "" : "; the output file is not written"));
       result.status = static_cast<int>(ExitCode::kStrictReject);
       return result;  // the atomic sink is discarded without commit
     }
@@ -238,7 +246,8 @@ int run_height(const HeightArgs& a, const Streams& streams,
 
   std::vector<InputResult> results(inputs.size());
   if (!batch) {
-    results[0] = run_one(inputs[0], outputs[0], options, streams, diag, rejects.get(), false);
+    results[0] = run_one(inputs[0], outputs[0], options, streams, diag, rejects.get(), false,
+                         !a.manifest.empty());
   } else {
     unsigned jobs = a.jobs > 0 ? static_cast<unsigned>(a.jobs)
                                : std::max(1u, std::thread::hardware_concurrency());
@@ -248,7 +257,8 @@ int run_height(const HeightArgs& a, const Streams& streams,
     std::mutex progress_mutex;
     auto worker = [&] {
       for (std::size_t i = next++; i < inputs.size(); i = next++) {
-        results[i] = run_one(inputs[i], outputs[i], options, streams, diag, rejects.get(), true);
+        results[i] = run_one(inputs[i], outputs[i], options, streams, diag, rejects.get(), true,
+                             !a.manifest.empty());
         const std::size_t d = ++done;
         if (progress) {
           std::lock_guard lock(progress_mutex);

@@ -108,7 +108,8 @@ std::string_view time_unit_name(TimeUnit unit) {
   return "s";
 }
 
-std::optional<TimeNs> parse_decimal_time(std::string_view text, TimeUnit unit) {
+namespace {
+std::optional<TimeNs> parse_plain_decimal_time(std::string_view text, TimeUnit unit) {
   // Nanoseconds per unit, and how many fractional digits of the unit are
   // whole nanoseconds (the next digit decides the rounding).
   std::uint64_t ns_per_unit = 1;
@@ -172,6 +173,70 @@ std::optional<TimeNs> parse_decimal_time(std::string_view text, TimeUnit unit) {
     return std::numeric_limits<TimeNs>::min();  // exactly -2^63
   }
   return -static_cast<TimeNs>(magnitude);
+}
+
+}  // namespace
+
+std::optional<TimeNs> parse_decimal_time(std::string_view text, TimeUnit unit) {
+  const std::size_t e = text.find_first_of("eE");
+  if (e == std::string_view::npos) return parse_plain_decimal_time(text, unit);
+  // An exponent (JSON writers use it: "1.7e9", "4.0e0"): move the decimal
+  // point in a small buffer and read the plain decimal exactly.
+  std::string_view mantissa = text.substr(0, e);
+  std::string_view exponent = text.substr(e + 1);
+  int shift = 0;
+  bool exp_negative = false;
+  std::size_t k = 0;
+  if (k < exponent.size() && (exponent[k] == '+' || exponent[k] == '-')) {
+    exp_negative = exponent[k] == '-';
+    ++k;
+  }
+  if (k == exponent.size()) return std::nullopt;
+  for (; k < exponent.size(); ++k) {
+    if (!is_digit(exponent[k])) return std::nullopt;
+    shift = shift * 10 + digit(exponent[k]);
+    if (shift > 40) return std::nullopt;
+  }
+  if (exp_negative) shift = -shift;
+  // Rewrite as a plain decimal in a fixed buffer: sign, digits, point.
+  char sign = 0;
+  if (!mantissa.empty() && (mantissa[0] == '+' || mantissa[0] == '-')) {
+    sign = mantissa[0];
+    mantissa.remove_prefix(1);
+  }
+  if (mantissa.size() > 40) return std::nullopt;
+  char digits[48];
+  int count = 0;
+  int point = -1;
+  for (char c : mantissa) {
+    if (c == '.') {
+      if (point >= 0) return std::nullopt;
+      point = count;
+    } else if (is_digit(c)) {
+      digits[count++] = c;
+    } else {
+      return std::nullopt;
+    }
+  }
+  if (count == 0) return std::nullopt;
+  if (point < 0) point = count;
+  point += shift;  // digits before the point; may be <= 0 or > count
+  char plain[160];
+  int n = 0;
+  if (sign) plain[n++] = sign;
+  if (point <= 0) {
+    plain[n++] = '0';
+    plain[n++] = '.';
+    for (int z = 0; z < -point; ++z) plain[n++] = '0';
+    for (int k = 0; k < count; ++k) plain[n++] = digits[k];
+  } else {
+    for (int k = 0; k < point; ++k) plain[n++] = k < count ? digits[k] : '0';
+    if (point < count) {
+      plain[n++] = '.';
+      for (int k = point; k < count; ++k) plain[n++] = digits[k];
+    }
+  }
+  return parse_plain_decimal_time(std::string_view(plain, static_cast<std::size_t>(n)), unit);
 }
 
 std::optional<TimeNs> parse_rfc3339(std::string_view text, int default_offset_s) {

@@ -94,6 +94,8 @@ bool SampleDecoder::decode(const Record& record, Sample& s, RowProblem& problem)
     return record.fields[static_cast<std::size_t>(map_.at(role))];
   };
   s.line = record.line;
+  s.record = record.index;
+  s.raw = record.raw;
   s.flags = kFlagNone;
 
   // Time (required).

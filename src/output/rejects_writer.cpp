@@ -32,7 +32,10 @@ void RejectsWriter::write(std::string_view source, const RowProblem& p) {
   line_ += ',';
   fmt::format_to(std::back_inserter(line_), "{}", p.line);
   line_ += ',';
-  append_csv_field(line_, p.message);
+  std::string reason(reject_code(p.reason));
+  reason += ": ";
+  reason += p.message;
+  append_csv_field(line_, reason);
   line_ += ',';
   append_csv_field(line_, p.raw);
   line_ += '\n';

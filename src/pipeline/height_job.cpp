@@ -8,10 +8,10 @@
 #include "baroz/core/constants.hpp"
 #include "baroz/core/error.hpp"
 #include "baroz/core/time.hpp"
-#include "baroz/io/sample_decoder.hpp"
 #include "baroz/models/geopotential.hpp"
 #include "baroz/models/standard_model.hpp"
 #include "baroz/output/rejects_writer.hpp"
+#include "baroz/pipeline/sample_feed.hpp"
 
 namespace baroz {
 namespace {
@@ -36,7 +36,7 @@ class HeightJob {
   bool emit(Sample& sample, bool in_window);
   void hold(const Sample& sample);
   bool release_held();
-  void start_writer();
+  void start_writer(bool time_is_number);
   void resolve_reference(bool end_of_input);
 
   ByteSource& input_;
@@ -66,6 +66,7 @@ class HeightJob {
     Sample sample;
     std::size_t text_offset = 0;
     std::size_t text_size = 0;
+    std::size_t raw_size = 0;
   };
   std::vector<Held> held_;
   std::string held_text_;
@@ -107,22 +108,22 @@ bool HeightJob::reject(const RowProblem& problem) {
   ++report_.rows_rejected;
   ++report_.rejected_by_reason[static_cast<std::size_t>(problem.reason)];
   if (rejects_) rejects_->write(input_.name(), problem);
-  if (options_.strict) {
+  if (options_.strict && !report_.stopped_by_strict) {
     diag_.fatal_row_problem(input_.name(), problem);
     report_.stopped_by_strict = true;
     return false;
   }
+  if (report_.stopped_by_strict) return true;  // releasing held rows after the stop
   diag_.row_problem(input_.name(), problem);
   return true;
 }
 
-void HeightJob::start_writer() {
+void HeightJob::start_writer(bool time_is_number) {
   SeriesOptions so = options_.series;
   so.altitude = options_.reference.kind == ReferenceKind::kQnh ||
                 options_.reference.elevation_m.has_value();
   so.gnss_alt = report_.columns.has(Role::kGnssAlt);
-  writer_ = std::make_unique<SeriesWriter>(
-      output_, so, report_.columns.time_format == TimeFormat::kNumber);
+  writer_ = std::make_unique<SeriesWriter>(output_, so, time_is_number);
   report_.output_columns = writer_->columns();
   writer_->write_header();
 }
@@ -158,12 +159,14 @@ bool HeightJob::emit(Sample& s, bool in_window) {
                           ? RejectReason::kNoTemperature
                           : RejectReason::kOutsideModel;
     problem_.line = s.line;
-    problem_.record = 0;
+    problem_.record = s.record;
     problem_.column = report_.columns.name[static_cast<std::size_t>(
         problem_.reason == RejectReason::kNoTemperature ? Role::kTemperature : Role::kPressure)];
-    problem_.field = -1;
+    problem_.field = report_.columns.at(problem_.reason == RejectReason::kNoTemperature
+                                            ? Role::kTemperature
+                                            : Role::kPressure);
     problem_.message = fmt::format("{}: {}", model_name(report_.model), e.reason);
-    problem_.raw = {};
+    problem_.raw = s.raw;
     return reject(problem_);
   }
   if (e.extrapolated) s.flags |= kFlagExtrapolated;
@@ -200,9 +203,12 @@ void HeightJob::hold(const Sample& s) {
   Held h;
   h.sample = s;
   h.sample.time_text = {};
+  h.sample.raw = {};
   h.text_offset = held_text_.size();
   h.text_size = s.time_text.size();
+  h.raw_size = s.raw.size();
   held_text_.append(s.time_text);
+  held_text_.append(s.raw);
   held_.push_back(h);
 }
 
@@ -210,11 +216,14 @@ bool HeightJob::release_held() {
   for (std::size_t i = 0; i < held_.size(); ++i) {
     Held& h = held_[i];
     h.sample.time_text = std::string_view(held_text_).substr(h.text_offset, h.text_size);
-    if (!emit(h.sample, resolver_->in_window(i))) return false;
+    h.sample.raw = std::string_view(held_text_).substr(h.text_offset + h.text_size, h.raw_size);
+    // After a --strict stop the remaining held rows are still written (or
+    // counted as rejected), so that read = written + rejected.
+    emit(h.sample, resolver_->in_window(i));
   }
   held_.clear();
   held_text_.clear();
-  return true;
+  return !report_.stopped_by_strict;
 }
 
 void HeightJob::resolve_reference(bool end_of_input) {
@@ -274,31 +283,29 @@ HeightReport HeightJob::run() {
       options_.reference, model_->kind() == ModelKind::kIsothermal,
       report_.columns.has(Role::kTemperature));
 
-  SampleDecoder decoder(report_.columns, options_.decimal_comma,
-                        report_.layout.format == LogFormat::kCsv);
-  Validator validator(options_.validation, decoder.columns());
+  // Parse on a second thread when the input can be read ahead (a file) and
+  // rows need not appear one by one (no --line-buffered).
+  const bool threaded = input_.is_regular_file() && !options_.series.line_buffered;
+  std::unique_ptr<SampleFeed> feed = make_sample_feed(
+      *reader_, report_.columns, options_.decimal_comma, options_.validation, threaded);
   bool writer_started = false;
   bool holding = resolver_->needs_window();
-  if (!holding) {
-    resolve_reference(false);
-  }
+  if (!holding) resolve_reference(false);
 
-  Record record;
-  Sample sample;
-  while (reader_->next(record)) {
+  FeedItem item;
+  while (feed->next(item)) {
     ++report_.rows_read;
-    if (!decoder.decode(record, sample, problem_)) {
-      if (!reject(problem_)) break;
+    if (item.problem) {
+      if (!reject(*item.problem)) {
+        feed->stop();
+        break;
+      }
       continue;
     }
-    if (!validator.check(sample, problem_, record.raw, record.index)) {
-      if (!reject(problem_)) break;
-      continue;
-    }
+    Sample& sample = *item.sample;
     if (!writer_started) {
-      // The time format is known after the first accepted record.
-      report_.columns = decoder.columns();
-      start_writer();
+      // The first accepted row tells whether times are numbers or RFC 3339.
+      start_writer(!parse_rfc3339(sample.time_text, 0).has_value());
       writer_started = true;
     }
     if (holding) {
@@ -306,29 +313,47 @@ HeightReport HeightJob::run() {
       if (resolver_->feed(sample)) {
         resolve_reference(false);
         holding = false;
-        if (!release_held()) break;
+        if (!release_held()) {
+          feed->stop();
+          break;
+        }
       }
       continue;
     }
-    if (!emit(sample, false)) break;
+    if (!emit(sample, false)) {
+      feed->stop();
+      break;
+    }
   }
-  if (!report_.stopped_by_strict && holding && !held_.empty()) {
-    resolve_reference(true);
-    release_held();
+  if (holding && !held_.empty()) {
+    if (!report_.stopped_by_strict) {
+      resolve_reference(true);
+      release_held();
+    } else {
+      // --strict stopped while rows were held for the reference: write them
+      // (as at the end of the input) so that read = written + rejected.
+      try {
+        resolve_reference(true);
+        release_held();
+      } catch (const Error&) {
+        report_.rows_read -= held_.size();  // never processed
+      }
+    }
   }
-  report_.absolute_time = decoder.absolute_time();
-  report_.nominal_interval_ns = validator.nominal_interval_ns();
-  report_.gaps = validator.gaps();
-  report_.time_backwards = validator.backwards();
-  report_.time_duplicates = validator.duplicates();
-  if (!writer_started) {
-    report_.columns = decoder.columns();
-    start_writer();
-  }
+  const FeedStats stats = feed->stats();
+  report_.columns = stats.columns;
+  report_.absolute_time = stats.absolute_time;
+  report_.nominal_interval_ns = stats.nominal_interval_ns;
+  report_.gaps = stats.gaps;
+  report_.time_backwards = stats.backwards;
+  report_.time_duplicates = stats.duplicates;
+  if (!writer_started) start_writer(true);
   writer_->flush();
   // Hash the whole input, also when --strict stopped early.
-  char drain[1 << 16];
-  while (input_.read(drain, sizeof drain) > 0) {
+  if (input_.hashing()) {
+    char drain[1 << 16];
+    while (input_.read(drain, sizeof drain) > 0) {
+    }
   }
   report_.bytes = input_.bytes_read();
   report_.sha256 = input_.sha256_hex();

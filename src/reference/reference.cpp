@@ -51,7 +51,12 @@ bool ReferenceResolver::feed(const Sample& s) {
   } else if (detector_.feed(s.time_ns, s.pressure_pa)) {
     done_ = true;
   }
-  if (!done_ && times_.size() >= options_.max_window_samples) done_ = true;
+  if (!done_ && times_.size() >= options_.max_window_samples) {
+    // Memory bound: the samples held so far are the window.
+    done_ = true;
+    window_end_ = times_.size();
+    capped_ = true;
+  }
   return done_;
 }
 
@@ -66,6 +71,10 @@ Reference ReferenceResolver::resolve(bool end_of_input, std::string_view source)
     if (options_.window_s) {
       if (!done_) window_end_ = times_.size();
       w.auto_detected = false;
+      if (capped_)
+        ref.notes.push_back(fmt::format(
+            "--ref-window: only the first {} samples are averaged (the memory bound)",
+            times_.size()));
     } else {
       if (!detector_.result().decided) detector_.finish();
       const StationaryResult& r = detector_.result();
@@ -84,12 +93,19 @@ Reference ReferenceResolver::resolve(bool end_of_input, std::string_view source)
               "no launch within the first {} samples; they are taken as the reference window",
               times_.size()));
       }
-      if (r.launch_found && r.used < options_.stationary.min_samples)
+      if (r.launch_found && r.used < options_.stationary.min_samples) {
+        if (options_.kind == ReferenceKind::kWindow)
+          throw input_error(fmt::format(
+              "{}: no stationary pre-launch segment found (the log seems to start in flight); "
+              "give the ground pressure with --ref-pressure, --qnh with --elevation, or a "
+              "fixed --ref-window DUR",
+              source));
         throw input_error(fmt::format(
-            "{}: no stationary pre-launch segment found (the log seems to start in flight); "
-            "give the ground pressure with --ref-pressure, --qnh with --elevation, or a fixed "
+            "{}: no stationary pre-launch segment found to take the reference temperature "
+            "from (the log seems to start in flight); give --ref-temperature or a fixed "
             "--ref-window DUR",
             source));
+      }
     }
     if (window_end_ == 0)
       throw input_error(fmt::format("{}: the reference window holds no sample", source));

@@ -6,7 +6,8 @@
 namespace baroz {
 
 double StationaryDetector::baseline() const {
-  return span_count_ > 0 ? span_sum_ / static_cast<double>(span_count_) : pressures_.front();
+  // An empty span (a long gap after a transient): the last resting value.
+  return span_count_ > 0 ? span_sum_ / static_cast<double>(span_count_) : last_resting_pa_;
 }
 
 double StationaryDetector::threshold() {
@@ -16,6 +17,7 @@ double StationaryDetector::threshold() {
 void StationaryDetector::include(std::size_t i, bool use) {
   included_[i] = use ? 1 : 0;
   if (use) {
+    last_resting_pa_ = pressures_[i];
     span_sum_ += pressures_[i];
     ++span_count_;
   }

@@ -60,7 +60,7 @@ bool Validator::check(Sample& s, RowProblem& problem, std::string_view raw,
     return reject(problem, s, raw, record, RejectReason::kPositionOutOfRange, Role::kLat,
                   fmt::format("column '{}': latitude {:g} is outside -90 to 90 degrees",
                               columns_.name[static_cast<std::size_t>(Role::kLat)], s.lat_deg));
-  if (!std::isnan(s.lon_deg) && std::fabs(s.lon_deg) > 360.0)
+  if (!std::isnan(s.lon_deg) && (s.lon_deg < -180.0 || s.lon_deg > 360.0))
     return reject(problem, s, raw, record, RejectReason::kPositionOutOfRange, Role::kLon,
                   fmt::format("column '{}': longitude {:g} is outside -180 to 360 degrees",
                               columns_.name[static_cast<std::size_t>(Role::kLon)], s.lon_deg));

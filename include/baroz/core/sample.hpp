@@ -42,7 +42,9 @@ struct Sample {
   double gnss_alt_m = kMissing;   ///< GNSS altitude [m] as logged
   std::uint32_t flags = kFlagNone;
   std::uint64_t line = 0;         ///< physical 1-based line of the record
+  std::uint64_t record = 0;       ///< 1-based data record number
   std::string_view time_text;     ///< the time field as given (valid until the next read)
+  std::string_view raw;           ///< the record's text (valid until the next read)
 };
 
 }  // namespace baroz

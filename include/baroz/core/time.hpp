@@ -28,7 +28,8 @@ std::string_view time_unit_name(TimeUnit unit);
 /// (only integer arithmetic: "0.0000000015" s is 2 ns, "1.5" ms 1500000 ns).
 /// Accepts an optional sign ('+' or '-') and one decimal point with at least
 /// one digit on either side of it (".5" and "5." are accepted); any number
-/// of fractional digits. No exponent, no spaces.
+/// of fractional digits, an optional exponent ("4.0e0", as JSON writers
+/// produce; read exactly, not through a double). No spaces.
 /// nullopt when the text is not such a number or the result does not fit a
 /// TimeNs (about +-292 years of nanoseconds around the epoch).
 std::optional<TimeNs> parse_decimal_time(std::string_view text, TimeUnit unit);

@@ -51,7 +51,7 @@ struct Reference {
   ReferencePoint point;                 ///< what the model measures from
   double qnh_pa = kMissing;             ///< --qnh value
   std::optional<ReferenceWindow> window;
-  std::string temperature_source;       ///< "option", "window", "standard (288.15 K)"
+  std::string temperature_source;       ///< "option", "window" or "standard" (288.15 K)
   std::vector<std::string> notes;       ///< for stderr and the manifest
 };
 
@@ -86,6 +86,7 @@ class ReferenceResolver {
   std::vector<TimeNs> times_;
   std::vector<double> pressures_;
   bool done_ = false;
+  bool capped_ = false;
   std::size_t window_end_ = 0;
 };
 

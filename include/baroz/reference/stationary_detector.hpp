@@ -63,6 +63,7 @@ class StationaryDetector {
   std::size_t window_end_ = 0;    // samples before this are decided resting
   std::size_t span_begin_ = 0;    // first sample of the baseline span
   double span_sum_ = 0.0;
+  double last_resting_pa_ = 0.0;
   std::size_t span_count_ = 0;
   bool candidate_ = false;
   std::size_t candidate_index_ = 0;
