@@ -228,12 +228,12 @@ std::optional<TimeNs> parse_decimal_time(std::string_view text, TimeUnit unit) {
     plain[n++] = '0';
     plain[n++] = '.';
     for (int z = 0; z < -point; ++z) plain[n++] = '0';
-    for (int k = 0; k < count; ++k) plain[n++] = digits[k];
+    for (int d = 0; d < count; ++d) plain[n++] = digits[d];
   } else {
-    for (int k = 0; k < point; ++k) plain[n++] = k < count ? digits[k] : '0';
+    for (int d = 0; d < point; ++d) plain[n++] = d < count ? digits[d] : '0';
     if (point < count) {
       plain[n++] = '.';
-      for (int k = point; k < count; ++k) plain[n++] = digits[k];
+      for (int d = point; d < count; ++d) plain[n++] = digits[d];
     }
   }
   return parse_plain_decimal_time(std::string_view(plain, static_cast<std::size_t>(n)), unit);
