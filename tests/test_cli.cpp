@@ -139,6 +139,30 @@ TEST_CASE("bad rows are rejected with file, line and column; counts reconcile", 
   CHECK(rej[1].find("\"2,10O3.2,15\"") != std::string::npos);
 }
 
+TEST_CASE("the rejects file keeps every raw record exactly when there are many", "[cli][bad-input]") {
+  TempDir d;
+  std::string log = "time_s,pressure_hpa\n0,1013.25\n";
+  std::vector<std::string> bad;
+  for (int i = 1; i <= 40; ++i) {
+    // Short and long raw texts (short strings are the ones that move in memory).
+    std::string raw = std::to_string(i) + "," + (i % 2 ? "x" : std::string(30, 'y'));
+    bad.push_back(raw);
+    log += raw + "\n" + std::to_string(i) + ".5,1013.25\n";
+  }
+  auto path = d.file("many.csv", log);
+  auto rej = d / "rej.csv";
+  auto r = run_cli({"height", "--ref-pressure", "1013.25", "--rejects", rej, path});
+  REQUIRE(r.status == 0);
+  auto rows = split_lines(read_file(rej));
+  REQUIRE(rows.size() == 41);
+  for (std::size_t i = 0; i < bad.size(); ++i) {
+    INFO(rows[i + 1]);
+    const std::string quoted = "\"" + bad[i] + "\"";  // RFC 4180: it holds a comma
+    REQUIRE(rows[i + 1].size() >= quoted.size());
+    CHECK(rows[i + 1].substr(rows[i + 1].size() - quoted.size()) == quoted);
+  }
+}
+
 TEST_CASE("strict mode: the first rejected row is fatal, exit 3, no output file", "[cli][bad-input]") {
   TempDir d;
   auto path = d.file("flight.csv",

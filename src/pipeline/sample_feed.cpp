@@ -121,8 +121,13 @@ class ThreadedFeed final : public SampleFeed {
       if (current_) {
         Batch& b = *current_;
         if (next_problem_ < b.used_problems && b.problem_at[next_problem_] == next_sample_) {
+          // The view is set here, not when produced: problem_raw may have
+          // been reallocated (moving short strings) while the batch filled.
+          RowProblem& p = b.problems[next_problem_];
+          p.raw = b.problem_raw[next_problem_];
+          ++next_problem_;
           item.sample = nullptr;
-          item.problem = &b.problems[next_problem_++];
+          item.problem = &p;
           return true;
         }
         if (next_sample_ < b.samples.size()) {
@@ -210,7 +215,6 @@ class ThreadedFeed final : public SampleFeed {
             }
             b->problems[k] = problem;
             b->problem_raw[k].assign(problem.raw);
-            b->problems[k].raw = b->problem_raw[k];
             b->problem_at.push_back(b->samples.size());
             if (b->used_problems >= kBatchSamples) break;
           }
