@@ -244,6 +244,11 @@ void HeightJob::resolve_reference(bool end_of_input) {
         format_hpa(w.pressure_pa), w.pressure_sd_pa / 100.0, t);
     if (w.launch_found) msg += fmt::format("; launch at {:.3f} s", seconds(w.start_ns, w.launch_ns));
     diag_.note(src, msg);
+    if (!input_.is_regular_file() && !end_of_input)
+      diag_.note(src, fmt::format("the input is a stream: the reference was formed causally "
+                                  "from the {} samples that had arrived; rows held back until "
+                                  "then are written now",
+                                  held_.size()));
   }
   if (reference_.kind == ReferenceKind::kPressure)
     diag_.note(src, fmt::format("reference pressure {} (--ref-pressure)",
