@@ -223,3 +223,17 @@ TEST_CASE("atomic file refuses writes after commit", "[output][atomic_file]") {
   CHECK_THROWS_AS(file.write("b"), baroz::Error);
   CHECK(read_file(dir.path() / "done.txt") == "a");
 }
+
+TEST_CASE("a device target such as /dev/null is written in place, never replaced",
+          "[output][atomic]") {
+  // Replacing /dev/null by a rename would turn it into a regular file for
+  // every program on the machine.
+  {
+    baroz::AtomicFile file("/dev/null");
+    file.write("discarded\n", 10);
+    file.commit();
+  }
+  struct stat info {};
+  REQUIRE(::stat("/dev/null", &info) == 0);
+  CHECK(S_ISCHR(info.st_mode));
+}

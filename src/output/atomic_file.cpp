@@ -55,6 +55,19 @@ AtomicFile::AtomicFile(std::string target_path)
   if (name.empty()) fail(target_path_.empty() ? ENOENT : EISDIR);
   if (name == "." || name == "..") fail(EISDIR);
 
+  // A target that exists and is not a regular file (/dev/null, /dev/stdout,
+  // a FIFO) cannot be replaced by a rename: write to it directly.
+  struct stat info {};
+  if (::stat(target_path_.c_str(), &info) == 0 && !S_ISREG(info.st_mode) &&
+      !S_ISDIR(info.st_mode)) {
+    do {
+      fd_ = ::open(target_path_.c_str(), O_WRONLY | O_CLOEXEC);
+    } while (fd_ < 0 && errno == EINTR);
+    if (fd_ < 0) fail(errno);
+    direct_ = true;
+    return;
+  }
+
   temp_path_ = dir + "." + name + ".tmp.XXXXXX";
   fd_ = ::mkostemp(temp_path_.data(), O_CLOEXEC);
   if (fd_ < 0) {
@@ -80,7 +93,8 @@ AtomicFile::AtomicFile(AtomicFile&& other) noexcept
       buffer_(std::move(other.buffer_)),
       used_(std::exchange(other.used_, kBufferSize)),  // full: writes fail
       fd_(std::exchange(other.fd_, -1)),
-      committed_(other.committed_) {}
+      committed_(other.committed_),
+      direct_(other.direct_) {}
 
 AtomicFile::~AtomicFile() {
   if (fd_ >= 0) ::close(fd_);
@@ -127,6 +141,13 @@ void AtomicFile::commit() {
   if (committed_) return;
   if (fd_ < 0) fail(EBADF);
   flush();
+  if (direct_) {
+    const int fd = std::exchange(fd_, -1);
+    used_ = kBufferSize;
+    if (::close(fd) != 0) fail(errno);
+    committed_ = true;
+    return;
+  }
   if (::fsync(fd_) != 0) fail(errno);
   const int fd = std::exchange(fd_, -1);
   used_ = kBufferSize;  // "full" buffer: any later write() reaches fail()

@@ -71,6 +71,7 @@ class AtomicFile {
   std::size_t used_ = 0;
   int fd_ = -1;
   bool committed_ = false;
+  bool direct_ = false;  ///< the target is a device or FIFO, written in place
 };
 
 }  // namespace baroz
