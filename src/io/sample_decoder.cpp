@@ -9,10 +9,22 @@
 namespace baroz {
 namespace {
 
-/// A field's text for a message: at most 40 characters.
+/// A field's text for a message: at most 40 characters, control characters
+/// escaped so that one problem stays one line ("10\n13" for a quoted line break).
 std::string shown(std::string_view text) {
-  if (text.size() <= 40) return std::string(text);
-  return std::string(text.substr(0, 37)) + "...";
+  const bool cut = text.size() > 40;
+  if (cut) text = text.substr(0, 37);
+  std::string out;
+  for (char c : text) {
+    const auto u = static_cast<unsigned char>(c);
+    if (c == '\n') out += "\\n";
+    else if (c == '\r') out += "\\r";
+    else if (c == '\t') out += "\\t";
+    else if (u < 0x20 || u == 0x7f) out += fmt::format("\\x{:02x}", u);
+    else out += c;
+  }
+  if (cut) out += "...";
+  return out;
 }
 
 RejectReason reason_for(RecordProblem p) {
