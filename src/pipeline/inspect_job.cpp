@@ -4,7 +4,7 @@
 #include <cmath>
 
 #include "baroz/core/error.hpp"
-#include "baroz/io/sample_decoder.hpp"
+#include "baroz/pipeline/sample_feed.hpp"
 
 namespace baroz {
 
@@ -15,17 +15,13 @@ InspectReport run_inspect_job(ByteSource& input, const InspectOptions& options,
   auto reader = open_record_reader(input, options.reader);
   rep.layout = reader->layout();
   rep.columns = map_columns(rep.layout.columns, options.columns, input.name());
-  SampleDecoder decoder(rep.columns, options.decimal_comma,
-                        rep.layout.format == LogFormat::kCsv);
-  Validator validator(options.validation, decoder.columns());
+  auto feed = make_sample_feed(*reader, rep.columns, options.decimal_comma, options.validation,
+                               input.is_regular_file());
   ReferenceOptions ro = options.reference;
   ro.kind = ReferenceKind::kWindow;
   ReferenceResolver resolver(ro, false, rep.columns.has(Role::kTemperature));
   bool resolving = true;
 
-  Record record;
-  Sample s;
-  RowProblem problem;
   TimeNs previous = 0;
   bool have_previous = false;
   auto min_max = [](double v, double& lo, double& hi) {
@@ -33,15 +29,16 @@ InspectReport run_inspect_job(ByteSource& input, const InspectOptions& options,
     if (std::isnan(lo) || v < lo) lo = v;
     if (std::isnan(hi) || v > hi) hi = v;
   };
-  while (reader->next(record)) {
+  FeedItem item;
+  while (feed->next(item)) {
     ++rep.rows_read;
-    if (!decoder.decode(record, s, problem) ||
-        !validator.check(s, problem, record.raw, record.index)) {
+    if (item.problem) {
       ++rep.rows_rejected;
-      ++rep.rejected_by_reason[static_cast<std::size_t>(problem.reason)];
-      diag.row_problem(input.name(), problem);
+      ++rep.rejected_by_reason[static_cast<std::size_t>(item.problem->reason)];
+      diag.row_problem(input.name(), *item.problem);
       continue;
     }
+    const Sample& s = *item.sample;
     ++rep.rows_usable;
     if (rep.rows_usable == 1) rep.first_time_ns = s.time_ns;
     rep.last_time_ns = s.time_ns;
@@ -70,13 +67,14 @@ InspectReport run_inspect_job(ByteSource& input, const InspectOptions& options,
       rep.reference_error = e.what();
     }
   }
+  const FeedStats stats = feed->stats();
   rep.blank_lines = reader->blank_lines();
-  rep.columns = decoder.columns();
-  rep.absolute_time = decoder.absolute_time();
-  rep.nominal_interval_ns = validator.nominal_interval_ns();
-  rep.gaps = validator.gaps();
-  rep.time_backwards = validator.backwards();
-  rep.time_duplicates = validator.duplicates();
+  rep.columns = stats.columns;
+  rep.absolute_time = stats.absolute_time;
+  rep.nominal_interval_ns = stats.nominal_interval_ns;
+  rep.gaps = stats.gaps;
+  rep.time_backwards = stats.backwards;
+  rep.time_duplicates = stats.duplicates;
   rep.bytes = input.bytes_read();
   rep.sha256 = input.sha256_hex();
   diag.finish_source(input.name());
