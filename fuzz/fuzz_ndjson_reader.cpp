@@ -10,9 +10,10 @@
 //             so that the format is sniffed (the log may then be read as CSV)
 // Aborts (so that the fuzzer saves the input) when an invariant breaks:
 // - only baroz::Error escapes, and only from opening the reader;
-// - every record has one field per column and no extra fields, indexes
-//   count 1, 2, 3, ..., physical lines increase strictly, the raw text is not
-//   blank; a kBadJson record has every field absent and says why;
+// - every record has one field per column, indexes count 1, 2, 3, ...,
+//   physical lines increase strictly, the raw text is not blank (CSV, when
+//   sniffed: not empty); an NDJSON record has no extra fields, and a
+//   kBadJson one has every field absent and says why;
 // - chunked and one-shot reading give the same layout, records and counts.
 // AddressSanitizer checks that every byte of every view is readable (the
 // fields point into simdjson's string buffer and into the line buffer).
@@ -151,7 +152,9 @@ Result read(baroz::ByteSource& source, bool sniff, bool decode) {
     if (record.fields.size() != columns) fail("field count differs from the columns'");
     if (record.index != result.records.size() + 1) fail("record indexes do not count 1, 2, 3");
     if (record.line <= previous_line) fail("line numbers do not increase");
-    if (is_blank(record.raw)) fail("a blank record");
+    // A CSV line of blanks is a record (RFC 4180 §2 rule 4: spaces are part
+    // of a field); an NDJSON line of blanks is not.
+    if (ndjson != nullptr ? is_blank(record.raw) : record.raw.empty()) fail("a blank record");
     if (ndjson != nullptr) {
       if (record.extra_fields != 0) fail("extra fields in an ndjson record");
       if (record.problem == baroz::RecordProblem::kBadJson) {
