@@ -1,6 +1,8 @@
 // Option values with an optional unit suffix (see quantity.hpp).
 #include "baroz/core/quantity.hpp"
 
+#include "baroz/core/ascii.hpp"
+
 #include <cmath>
 #include <optional>
 #include <string>
@@ -37,18 +39,6 @@ constexpr std::string_view kNumberKind = "a number";
 constexpr bool is_blank(char c) noexcept { return c == ' ' || c == '\t'; }
 constexpr bool is_digit(char c) noexcept { return c >= '0' && c <= '9'; }
 
-constexpr char ascii_lower(char c) noexcept {
-  return (c >= 'A' && c <= 'Z') ? static_cast<char>(c - 'A' + 'a') : c;
-}
-
-/// ASCII case-insensitive equality; `lower` must already be lower case.
-constexpr bool iequals(std::string_view text, std::string_view lower) noexcept {
-  if (text.size() != lower.size()) return false;
-  for (std::size_t i = 0; i < text.size(); ++i) {
-    if (ascii_lower(text[i]) != lower[i]) return false;
-  }
-  return true;
-}
 
 std::string_view trim(std::string_view text) noexcept {
   while (!text.empty() && is_blank(text.front())) text.remove_prefix(1);

@@ -1,6 +1,8 @@
 // Time parsing and formatting in integer nanoseconds (see time.hpp).
 #include "baroz/core/time.hpp"
 
+#include "baroz/core/ascii.hpp"
+
 #include <cstdint>
 #include <limits>
 
@@ -14,18 +16,6 @@ constexpr std::int64_t kSecondsPerDay = 86'400;
 constexpr bool is_digit(char c) noexcept { return c >= '0' && c <= '9'; }
 constexpr int digit(char c) noexcept { return c - '0'; }
 
-constexpr char ascii_lower(char c) noexcept {
-  return (c >= 'A' && c <= 'Z') ? static_cast<char>(c - 'A' + 'a') : c;
-}
-
-/// ASCII case-insensitive equality; `lower` must already be lower case.
-constexpr bool iequals(std::string_view text, std::string_view lower) noexcept {
-  if (text.size() != lower.size()) return false;
-  for (std::size_t i = 0; i < text.size(); ++i) {
-    if (ascii_lower(text[i]) != lower[i]) return false;
-  }
-  return true;
-}
 
 /// Reads exactly `count` decimal digits at `pos`; false if any is not a digit.
 bool read_digits(std::string_view text, std::size_t pos, std::size_t count, int& out) noexcept {
