@@ -40,49 +40,35 @@ void Diagnostics::fatal_row_problem(std::string_view source, const RowProblem& p
   emit_problem(source, p);
 }
 
-void Diagnostics::note(std::string_view source, std::string_view message) {
-  if (quiet_) return;
-  std::lock_guard lock(mutex_);
+void Diagnostics::emit_message(std::string_view source, std::string_view code,
+                               std::string_view message) {
   if (format_ == ErrorFormat::kJson) {
     JsonWriter j;
     j.begin_object();
-    j.key("file"); j.value(source);
-    j.key("code"); j.value("note");
+    if (!source.empty()) {
+      j.key("file");
+      j.value(source);
+    }
+    j.key("code"); j.value(code);
     j.key("message"); j.value(message);
     j.end_object();
     err_ << j.str() << '\n';
+  } else if (source.empty()) {
+    err_ << "baroz: " << message << '\n';
   } else {
     err_ << "baroz: " << source << ": " << message << '\n';
   }
 }
 
-void Diagnostics::warning(std::string_view source, std::string_view message) {
+void Diagnostics::note(std::string_view source, std::string_view message) {
+  if (quiet_) return;
   std::lock_guard lock(mutex_);
-  if (format_ == ErrorFormat::kJson) {
-    JsonWriter j;
-    j.begin_object();
-    j.key("file"); j.value(source);
-    j.key("code"); j.value("warning");
-    j.key("message"); j.value(message);
-    j.end_object();
-    err_ << j.str() << '\n';
-  } else {
-    err_ << "baroz: " << source << ": warning: " << message << '\n';
-  }
+  emit_message(source, "note", message);
 }
 
 void Diagnostics::error(std::string_view message) {
   std::lock_guard lock(mutex_);
-  if (format_ == ErrorFormat::kJson) {
-    JsonWriter j;
-    j.begin_object();
-    j.key("code"); j.value("error");
-    j.key("message"); j.value(message);
-    j.end_object();
-    err_ << j.str() << '\n';
-  } else {
-    err_ << "baroz: " << message << '\n';
-  }
+  emit_message({}, "error", message);
 }
 
 void Diagnostics::finish_source(std::string_view source) {

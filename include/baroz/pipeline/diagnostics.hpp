@@ -30,8 +30,6 @@ class Diagnostics {
   void fatal_row_problem(std::string_view source, const RowProblem& problem);
   /// A note about a choice the tool made ("reference window: ...").
   void note(std::string_view source, std::string_view message);
-  /// A warning that is not about one row.
-  void warning(std::string_view source, std::string_view message);
   /// An error ending the run (the CLI prints it with the exit status).
   void error(std::string_view message);
   /// Ends the collapsed kinds of `source` with one line each.
@@ -42,6 +40,8 @@ class Diagnostics {
 
  private:
   void emit_problem(std::string_view source, const RowProblem& problem);
+  /// One message line (text) or object (JSON); an empty source is left out.
+  void emit_message(std::string_view source, std::string_view code, std::string_view message);
   std::ostream& err_;
   ErrorFormat format_;
   bool quiet_ = false;
