@@ -28,6 +28,15 @@ inline constexpr double kT0 = 288.15;
 /// Sea-level standard density rho0 [kg m^-3] (USSA76 Table I).
 inline constexpr double kRho0 = 1.2250;
 
+// ---- Water vapour (for the virtual temperature).
+/// Molar mass of water M_w [kg mol^-1] (18.01528 g/mol; from memory, the
+/// value used with M0 = 28.9644 g/mol in reference-values.md section 4.1).
+inline constexpr double kMWater = 18.01528e-3;
+/// Ratio epsilon = M_w / M_d = R_d / R_v [1] of water vapour to dry air,
+/// with M_d = kM0 (USSA76): 0.62198 (Wallace & Hobbs 2006, section 3.1,
+/// give the rounded 0.622; reference-values.md section 4.1).
+inline constexpr double kEpsilon = kMWater / kM0;
+
 // ---- Temperature scale.
 /// 0 degC in kelvin [K] (ITS-90 definition of the Celsius scale).
 inline constexpr double kZeroCelsius = 273.15;

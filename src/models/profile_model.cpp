@@ -1,0 +1,95 @@
+#include "baroz/models/profile_model.hpp"
+
+#include <cmath>
+#include <limits>
+#include <utility>
+
+#include "baroz/core/constants.hpp"
+#include "baroz/models/standard_atmosphere.hpp"
+
+namespace baroz {
+
+namespace {
+constexpr double kRPerG0 = constants::kRAir / constants::kG0;  // R/g0 [m' K^-1]
+
+bool same_datum(double a, double b) {
+  return a == b || (std::isnan(a) && std::isnan(b));
+}
+}  // namespace
+
+ProfileModel::ProfileModel(TemperatureProfile profile, GravityFrame frame)
+    : profile_(std::move(profile)),
+      frame_(frame),
+      min_pressure_pa_(ussa76::min_pressure_pa()),
+      max_pressure_pa_(ussa76::max_pressure_pa()),
+      cached_ref_pressure_pa_(std::numeric_limits<double>::quiet_NaN()),
+      cached_datum_m_(std::numeric_limits<double>::quiet_NaN()) {}
+
+void ProfileModel::set_profile(TemperatureProfile profile) {
+  profile_ = std::move(profile);
+  segment_hint_ = 0;
+  ref_segment_hint_ = 0;
+  cached_ref_pressure_pa_ = std::numeric_limits<double>::quiet_NaN();  // H(p_ref) changed
+}
+
+bool ProfileModel::update_reference(double p_ref_pa, double datum_geopotential_m) {
+  if (!(p_ref_pa >= min_pressure_pa_ && p_ref_pa <= max_pressure_pa_)) {
+    cached_ref_pressure_pa_ = std::numeric_limits<double>::quiet_NaN();
+    return false;
+  }
+  const ProfilePoint ref = profile_.geopotential_at(p_ref_pa, ref_segment_hint_);
+  ref_geopotential_m_ = ref.geopotential_m;
+  ref_log_pressure_ = ref.log_pressure;
+  ref_slope_ = kRPerG0 * ref.virtual_temperature_k / p_ref_pa;  // -dH/dp at p_ref (hydrostatic)
+  ref_extrapolated_ = ref.extrapolated;
+  if (std::isnan(datum_geopotential_m)) {
+    // The standard atmosphere only places the column in the gravity field.
+    const ussa76::Level level = ussa76::level_at_pressure(p_ref_pa);
+    datum_geopotential_m_ = level.geopotential_m;
+    datum_slope_ = -kRPerG0 * level.temperature_k / p_ref_pa;  // hydrostatic dH_std/dp
+  } else {
+    datum_geopotential_m_ = datum_geopotential_m;
+    datum_slope_ = 0.0;
+  }
+  datum_zprime_ = frame_.geometric_per_geopotential(datum_geopotential_m_);
+  cached_ref_pressure_pa_ = p_ref_pa;
+  cached_datum_m_ = datum_geopotential_m;
+  return true;
+}
+
+HeightEval ProfileModel::evaluate(double pressure_pa, double /*temperature_k*/,
+                                  const ReferencePoint& ref) {
+  HeightEval out;
+  if (!(pressure_pa >= min_pressure_pa_ && pressure_pa <= max_pressure_pa_)) {
+    out.valid = false;
+    out.reason = kReasonPressureRange;
+    return out;
+  }
+  if (!(ref.pressure_pa == cached_ref_pressure_pa_ &&
+        same_datum(ref.datum_geopotential_m, cached_datum_m_)) &&
+      !update_reference(ref.pressure_pa, ref.datum_geopotential_m)) {
+    out.valid = false;
+    out.reason = kReasonReferenceRange;
+    return out;
+  }
+
+  // Hypsometric equation through the profile: dH = H(p) - H(p_ref).
+  const ProfilePoint point = profile_.geopotential_at(pressure_pa, segment_hint_);
+  const double dh_geo = point.geopotential_m - ref_geopotential_m_;
+  const double level = datum_geopotential_m_ + dh_geo;
+  const double zprime_level = frame_.geometric_per_geopotential(level);  // dZ/dH at Hd + dH
+  out.geopotential_m = dh_geo;
+  // USSA76 eq. 18 (or its WGS 84 form): h = Z(Hd + dH) - Z(Hd).
+  out.height_m = frame_.geometric_height_difference(datum_geopotential_m_, dh_geo);
+
+  // Hydrostatic equation: dH/dp = -R T_v(p) / (g0 p).
+  out.dh_dp = -(kRPerG0 * point.virtual_temperature_k / pressure_pa) * zprime_level;
+  out.dh_dpref = ref_slope_ * zprime_level + datum_slope_ * (zprime_level - datum_zprime_);
+  // A uniform offset dT of the profile adds (R/g0) dT ln(p_ref/p) to dH.
+  out.dh_dt = kRPerG0 * (ref_log_pressure_ - point.log_pressure) * zprime_level;
+  out.dh_dtmodel = 0.0;
+  out.extrapolated = point.extrapolated || ref_extrapolated_;
+  return out;
+}
+
+}  // namespace baroz
