@@ -24,12 +24,14 @@ enum SampleFlag : std::uint32_t {
   kFlagNoGnss = 1u << 5,         ///< a GNSS field (lat, lon, gnss_alt) was empty
   kFlagReferenceWindow = 1u << 6,///< the sample lies in the reference window
   kFlagExtrapolated = 1u << 7,   ///< the model was used outside its valid range
+  kFlagSpike = 1u << 8,          ///< the spike filter found an outlier (row kept)
 };
 
 /// Names of the flags as written in the `flags` column, in bit order.
 inline constexpr std::string_view kFlagNames[] = {
     "time_backwards", "time_duplicate", "gap",          "no_temperature",
-    "no_humidity",    "no_gnss",        "ref_window",   "extrapolated"};
+    "no_humidity",    "no_gnss",        "ref_window",   "extrapolated",
+    "spike"};
 
 /// A sample in SI units. Optional quantities are NaN when missing.
 struct Sample {
