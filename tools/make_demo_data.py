@@ -24,7 +24,10 @@ is integrated with the classical fourth-order Runge-Kutta method on a fine
 uniform grid from the site's ground pressure, and the resulting table
 z -> ln p is inverted by linear interpolation in ln p to find the true height
 of any pressure. For the standard atmosphere T(z) is the USSA76 molecular-scale
-temperature T_M(H) at the geopotential height H = r0 z / (r0 + z).
+temperature T_M(H) at the geopotential height H = r0 z / (r0 + z). The
+Kestrel-2 balloon flies a moist, non-standard atmosphere: there T is replaced
+by the virtual temperature T_v(z, p) = T / [1 - (e/p)(1 - eps)] with
+e = RH/100 f(p) e_w(T) (WMO-No. 8 Magnus over water and enhancement factor).
 
 References
   U.S. Standard Atmosphere, 1976, NOAA-S/T 76-1562: constants g0, R*, M0, r0
@@ -32,9 +35,9 @@ References
     Table 4 (layers), eqs. 33a/33b (closed form used only as a check),
     Table I (check values).
   WMO-No. 8 (CIMO Guide), Vol. I, Annex 4.B, eq. 4.B.1 (saturation vapour
-    pressure over water) - used for the humidity column.
-  Wallace & Hobbs 2006, sec. 3.1 (virtual temperature) - used only for the
-    virtual-temperature offset reported in the docs.
+    pressure over water) and the enhancement factor f(p) - used for the
+    Kestrel-2 atmosphere's virtual temperature.
+  Wallace & Hobbs 2006, sec. 3.1 (virtual temperature, exact form).
 """
 
 from __future__ import annotations
@@ -63,7 +66,8 @@ R0 = 6356766.0        # m, USSA76 effective Earth radius for H <-> Z
 P0 = 101325.0         # Pa, USSA76 sea-level pressure
 T0 = 288.15           # K, USSA76 sea-level temperature
 KELVIN = 273.15       # K at 0 degC
-EPSILON = 0.622       # R_d / R_v (Wallace & Hobbs 2006) - humidity diagnostic
+M_WATER = 0.01801528  # kg mol^-1, molar mass of water (from memory)
+EPSILON = M_WATER / M0  # = 0.62198, M_w / M_d = R_d / R_v (reference-values.md 4.1)
 
 # WGS 84 ellipsoid (NIMA TR8350.2), used only to turn a local east/north track
 # into latitude/longitude.
@@ -103,6 +107,26 @@ def geopotential_height(z: float) -> float:
 def geometric_height(h: float) -> float:
     """Geometric height Z (m) of geopotential height H (m'). USSA76 eq. 18."""
     return R0 * h / (R0 - h)
+
+
+# WGS 84 (NIMA TR8350.2, 3rd ed., Tables 3.1-3.4; reference-values.md 3.1).
+WGS84_A = 6378137.0
+WGS84_F = 1.0 / 298.257223563
+WGS84_GAMMA_E = 9.7803253359
+WGS84_K = 0.00193185265241
+WGS84_E2 = 6.69437999014e-3
+WGS84_M = 0.00344978650684
+
+
+def wgs84_gravity(lat_deg: float, h: float) -> float:
+    """WGS 84 normal gravity (m s^-2) at geodetic latitude lat_deg and height h
+    (m) above the ellipsoid: Somigliana (TR8350.2 eq. 4-1) with the
+    second-order free-air series (eq. 4-3). The demo takes MSL altitude as
+    the ellipsoidal height (no geoid undulation)."""
+    s2 = math.sin(math.radians(lat_deg)) ** 2
+    g = WGS84_GAMMA_E * (1.0 + WGS84_K * s2) / math.sqrt(1.0 - WGS84_E2 * s2)
+    return g * (1.0 - 2.0 / WGS84_A * (1.0 + WGS84_F + WGS84_M - 2.0 * WGS84_F * s2) * h
+                + 3.0 / WGS84_A ** 2 * h * h)
 
 
 def gravity(z: float) -> float:
@@ -158,18 +182,58 @@ def magnus_saturation_vapour_pressure_hpa(t_c: float) -> float:
     return 6.112 * math.exp(17.62 * t_c / (243.12 + t_c))
 
 
+def wmo_enhancement_factor(p_pa: float) -> float:
+    """WMO-No. 8, Annex 4.B: f(p) = 1.0016 + 3.15e-6 p - 0.074 / p (p in hPa);
+    the saturation vapour pressure of moist air is f(p) e_w."""
+    p_hpa = p_pa / 100.0
+    return 1.0016 + 3.15e-6 * p_hpa - 0.074 / p_hpa
+
+
+def virtual_temperature(t_k: float, rh_pct: float, p_pa: float) -> float:
+    """Virtual temperature (K) of air at t_k (K), relative humidity rh_pct
+    (percent over water, WMO convention) and pressure p_pa (Pa), exact form
+    T_v = T / [1 - (e/p)(1 - eps)] (Wallace & Hobbs 2006, sec. 3.1), with
+    e = RH/100 f(p) e_w(T) (WMO-No. 8 Annex 4.B)."""
+    e_pa = rh_pct / 100.0 * wmo_enhancement_factor(p_pa) \
+        * magnus_saturation_vapour_pressure_hpa(t_k - KELVIN) * 100.0
+    return t_k / (1.0 - e_pa / p_pa * (1.0 - EPSILON))
+
+
+class PiecewiseLinear:
+    """y(x) linear between the nodes (x ascending), constant beyond the ends."""
+
+    def __init__(self, nodes: list[tuple[float, float]]):
+        self.x = [a for a, _ in nodes]
+        self.y = [b for _, b in nodes]
+
+    def __call__(self, x: float) -> float:
+        if x <= self.x[0]:
+            return self.y[0]
+        if x >= self.x[-1]:
+            return self.y[-1]
+        i = bisect.bisect_right(self.x, x) - 1
+        x0, x1 = self.x[i], self.x[i + 1]
+        return self.y[i] + (self.y[i + 1] - self.y[i]) * (x - x0) / (x1 - x0)
+
+
 class HydrostaticColumn:
     """Table z -> ln p from RK4 integration of dp/dz = -p g(z) M0 / (R* T(z)).
 
-    temperature: callable z (m, geometric MSL) -> K
+    temperature: callable z (m, geometric MSL) -> K (the air temperature)
     z_ground, p_ground: start of the integration (m, Pa)
     z_top: end of the table (m); dz: step (m)
     The integration may also run downwards to z_bottom (< z_ground).
+    virtual_temperature: optional callable (z, p) -> K for moist air; when
+    given, it replaces T in the hydrostatic equation and in the density
+    (rho = p M0 / (R* T_v)).
     """
 
     def __init__(self, temperature, z_ground: float, p_ground: float, z_top: float,
-                 dz: float, z_bottom: float | None = None):
+                 dz: float, z_bottom: float | None = None, virtual_temperature=None,
+                 gravity_of=None):
         self.temperature = temperature
+        self.virtual_temperature = virtual_temperature
+        self.gravity_of = gravity_of
         self.dz = dz
         z_bottom = z_ground if z_bottom is None else z_bottom
         n_down = int(round((z_ground - z_bottom) / dz))
@@ -184,13 +248,19 @@ class HydrostaticColumn:
         self.neg_lnp = [-v for v in self.lnp]          # ascending with z
 
     def _integrate(self, z0: float, p0: float, h: float, n: int) -> list[float]:
-        k = G0 * M0 / RSTAR
         t_of = self.temperature
+        tv_of = self.virtual_temperature
+        g_of = self.gravity_of if self.gravity_of is not None else gravity
+        m_over_r = M0 / RSTAR
 
-        def f(z: float, p: float) -> float:
-            # hydrostatic equation with the ideal-gas density p M0 / (R* T)
-            q = R0 / (R0 + z)
-            return -p * k * q * q / t_of(z)
+        if tv_of is None:
+            def f(z: float, p: float) -> float:
+                # hydrostatic equation with the ideal-gas density p M0 / (R* T)
+                return -p * m_over_r * g_of(z) / t_of(z)
+        else:
+            def f(z: float, p: float) -> float:
+                # moist air: density p M0 / (R* T_v), T_v depends on p via e/p, f(p)
+                return -p * m_over_r * g_of(z) / tv_of(z, p)
 
         out = [p0]
         p = p0
@@ -231,8 +301,12 @@ class HydrostaticColumn:
         return self.node_z(i) + self.dz * (u - a) / (b - a)
 
     def density(self, z: float) -> float:
-        """Air density (kg m^-3) at z: rho = p M0 / (R* T) (USSA76 eq. 42)."""
-        return self.pressure(z) * M0 / (RSTAR * self.temperature(z))
+        """Air density (kg m^-3) at z: rho = p M0 / (R* T) (USSA76 eq. 42),
+        with T_v in place of T for moist air."""
+        p = self.pressure(z)
+        if self.virtual_temperature is None:
+            return p * M0 / (RSTAR * self.temperature(z))
+        return p * M0 / (RSTAR * self.virtual_temperature(z, p))
 
 
 def standard_column(dz: float) -> HydrostaticColumn:
@@ -336,15 +410,6 @@ def smoothstep(x: float, a: float, b: float) -> float:
     return s * s * (3.0 - 2.0 * s)
 
 
-def interp(table: list[tuple[float, float]], x: float) -> float:
-    if x <= table[0][0]:
-        return table[0][1]
-    for (x0, y0), (x1, y1) in zip(table, table[1:]):
-        if x <= x1:
-            return y0 + (y1 - y0) * (x - x0) / (x1 - x0)
-    return table[-1][1]
-
-
 class Writer:
     """Collects the generated files (relative path -> bytes)."""
 
@@ -360,22 +425,66 @@ class Writer:
 
 
 # ---------------------------------------------------------------------------
-# Scenario 1: Kestrel-2 balloon flight (standard atmosphere)
+# Scenario 1: Kestrel-2 balloon flight (moist, non-standard atmosphere)
 # ---------------------------------------------------------------------------
 KESTREL_START = epoch(2026, 5, 16, 8, 40, 0)
 KESTREL_SITE_LAT = 40.35214      # invented field, inland mid-latitude
 KESTREL_SITE_LON = -87.94537
 KESTREL_Z_LAUNCH = 212.0
 KESTREL_Z_LAND = 172.0
+KESTREL_P_LAUNCH = 98950.0       # Pa, true pressure at the launch point (212 m)
+
+# Air temperature (degC) vs geometric height (m MSL) of a warm late-spring
+# day at an inland mid-latitude site, linear between the nodes (all on whole
+# metres, i.e. on the 1 m integration grid): a shallow surface inversion
+# (24.0 degC at the 212 m site, +3 K by 512 m; colder air pooled below the
+# site), a well-mixed residual boundary layer to 1.9 km capped by a weak
+# inversion, a free troposphere of 7.2 ... 7.8 K/km, the tropopause at
+# 12.5 km at -58 degC, a nearly isothermal lower stratosphere and a warming
+# of 1.8 K/km (20-26 km) and 2.3 K/km (26-32.5 km) above.
+KESTREL_TEMPERATURE_NODES = [
+    (0.0, 21.0), (212.0, 24.0), (300.0, 25.4), (400.0, 26.5), (512.0, 27.0),
+    (1900.0, 16.8), (2150.0, 18.0), (5000.0, -2.5), (8000.0, -24.0),
+    (10500.0, -42.5), (12500.0, -58.0), (14000.0, -58.6), (17000.0, -57.8),
+    (20000.0, -56.0), (26000.0, -45.2), (32500.0, -30.25),
+]
+# Relative humidity (percent over water, WMO convention) vs geometric height
+# (m MSL): a moist boundary layer (80 % at the site, drier in the warm
+# inversion top, 85 % under the capping inversion), a drier free troposphere
+# and a very dry stratosphere.
+KESTREL_RH_NODES = [
+    (0.0, 84.0), (212.0, 80.0), (512.0, 64.0), (1200.0, 72.0), (1900.0, 85.0),
+    (2150.0, 45.0), (3000.0, 40.0), (5000.0, 35.0), (8000.0, 30.0),
+    (10500.0, 28.0), (12500.0, 20.0), (14000.0, 6.0), (17000.0, 2.5),
+    (32500.0, 1.5),
+]
+_kestrel_t_c = PiecewiseLinear(KESTREL_TEMPERATURE_NODES)
+_kestrel_rh = PiecewiseLinear(KESTREL_RH_NODES)
+
+
+def kestrel_temperature(z: float) -> float:
+    """True air temperature (K) of the Kestrel-2 day at geometric height z (m MSL)."""
+    return _kestrel_t_c(z) + KELVIN
 
 
 def kestrel_rh_percent(z: float) -> float:
-    """Plausible relative-humidity profile (percent over water) of a dry
-    spring day: moist boundary layer, drier free troposphere, very dry
-    stratosphere."""
-    return interp([(0.0, 58.0), (1200.0, 66.0), (1900.0, 82.0), (2600.0, 48.0),
-                   (5000.0, 34.0), (8500.0, 22.0), (11000.0, 14.0), (13000.0, 5.0),
-                   (16000.0, 2.5), (32000.0, 1.5)], z)
+    """True relative humidity (percent over water) at geometric height z (m MSL)."""
+    return _kestrel_rh(z)
+
+
+def kestrel_virtual_temperature(z: float, p: float) -> float:
+    """True virtual temperature (K) at geometric height z (m MSL) and pressure p (Pa)."""
+    return virtual_temperature(kestrel_temperature(z), kestrel_rh_percent(z), p)
+
+
+def kestrel_column(dz: float) -> HydrostaticColumn:
+    """The Kestrel-2 day integrated from the launch point (212 m, 98 950 Pa)
+    up to 32.5 km and down to 0 m, with the virtual temperature and the real
+    (WGS 84 normal) gravity of the launch site's latitude, as a balloon at
+    40.35 N feels it."""
+    return HydrostaticColumn(kestrel_temperature, KESTREL_Z_LAUNCH, KESTREL_P_LAUNCH, 32500.0,
+                             dz, z_bottom=0.0, virtual_temperature=kestrel_virtual_temperature,
+                             gravity_of=lambda z: wgs84_gravity(KESTREL_SITE_LAT, z))
 
 
 def kestrel_wind(z: float) -> tuple[float, float]:
@@ -388,7 +497,9 @@ def kestrel_wind(z: float) -> tuple[float, float]:
     return east, north
 
 
-def make_kestrel(std: HydrostaticColumn, w: Writer) -> dict:
+def make_kestrel(std: HydrostaticColumn, col: HydrostaticColumn, w: Writer) -> dict:
+    """std: the standard atmosphere (for the standard height of the logged
+    pressure); col: the true atmosphere of the day (kestrel_column)."""
     dt = 0.1                       # s, fine simulation step
     sub = 20                       # 2 s log interval = 20 fine steps
     t_launch = 600.0               # 10 min on the ground before launch
@@ -396,7 +507,7 @@ def make_kestrel(std: HydrostaticColumn, w: Writer) -> dict:
     z_burst = 30500.0 + rng_flight.uniform(-60.0, 60.0)
     v0_descent = 5.5               # m/s terminal speed at the landing site
     v_cap = 40.0                   # m/s cap of the descent speed just after burst
-    rho_land = std.density(KESTREL_Z_LAND)
+    rho_land = col.density(KESTREL_Z_LAND)
 
     tau_ext = 6.0                  # s, external probe time constant
     tau_rh = 8.0                   # s, humidity sensor time constant
@@ -412,7 +523,7 @@ def make_kestrel(std: HydrostaticColumn, w: Writer) -> dict:
     z = KESTREL_Z_LAUNCH
     vz = 0.0
     east = north = 0.0
-    t_air = std.temperature(z)
+    t_air = col.temperature(z)
     t_sensor = t_air
     rh_sensor = kestrel_rh_percent(z)
     t_box = 22.0 + KELVIN
@@ -428,7 +539,7 @@ def make_kestrel(std: HydrostaticColumn, w: Writer) -> dict:
         if k % sub == 0:
             if t_end is not None and t > t_end + 1e-9:
                 break
-            samples.append((t, z, east, north, std.temperature(z), t_sensor, t_box, rh_sensor))
+            samples.append((t, z, east, north, col.temperature(z), t_sensor, t_box, rh_sensor))
         # --- advance one fine step from t to t + dt
         if phase == "ground" and t + 1e-9 >= t_launch:
             phase = "ascent"
@@ -446,7 +557,7 @@ def make_kestrel(std: HydrostaticColumn, w: Writer) -> dict:
             z = z_new
         elif phase == "descent":
             # quadratic drag with terminal speed v_t = v0 sqrt(rho_land / rho)
-            vt = min(v_cap, v0_descent * math.sqrt(rho_land / std.density(z)))
+            vt = min(v_cap, v0_descent * math.sqrt(rho_land / col.density(z)))
             acc = -G0 - G0 * vz * abs(vz) / (vt * vt)
             vz = vz + acc * dt
             z_new = z + vz * dt
@@ -464,11 +575,11 @@ def make_kestrel(std: HydrostaticColumn, w: Writer) -> dict:
             north += wn * dt
         z_max = max(z_max, z)
         # sensors (first-order lags, exact discretisation)
-        t_air = std.temperature(z)
+        t_air = col.temperature(z)
         t_sensor += a_ext * (t_air - t_sensor)
         rh_sensor += a_rh * (kestrel_rh_percent(z) - rh_sensor)
         # payload box: electronics dissipate; less convective cooling in thin air
-        rho_ratio = std.density(z) / rho_land
+        rho_ratio = col.density(z) / rho_land
         if phase in ("ground", "landed"):
             box_eq = t_air + 7.5
         else:
@@ -489,14 +600,14 @@ def make_kestrel(std: HydrostaticColumn, w: Writer) -> dict:
     truth = io.StringIO(newline="")
     log.write("utc,pressure_pa,temp_ext_c,temp_int_c,rh_pct,gps_lat,gps_lon,gps_alt_m\n")
     truth.write("utc,true_height_m,true_altitude_m,true_pressure_pa,true_temperature_c,"
-                "standard_height_of_logged_pressure_m\n")
+                "standard_height_of_logged_pressure_m,true_rh_pct,true_virtual_temperature_c\n")
     max_sample = (-1e9, 0.0)
-    virt_offset = 0.0              # integral of (T_v/T - 1) dz over the ascent
-    prev_asc_z = None
-    std_check_max = 0.0
+    # the standard atmosphere's geometric altitude of the true launch pressure:
+    # a standard-model run referenced to the launch point measures from there
+    z_std_launch = std.height(KESTREL_P_LAUNCH)
     for (t, zs, e, n, ta, ts, tb, rh) in samples:
         utc = utc_string(KESTREL_START + t)
-        p_true = std.pressure(zs)
+        p_true = col.pressure(zs)
         p_log = int(round(p_true + rng_p.gauss(0.0, 1.5)))
         temp_ext = ts - KELVIN + rng_t.gauss(0.0, 0.15)
         temp_int = tb - KELVIN + rng_box.gauss(0.0, 0.05)
@@ -510,23 +621,42 @@ def make_kestrel(std: HydrostaticColumn, w: Writer) -> dict:
             gps = f"{fmt(lat, 5)},{fmt(lon, 5)},{fmt(zs + ga, 1)}"
         log.write(f"{utc},{p_log},{fmt(temp_ext, 2)},{fmt(temp_int, 1)},{fmt(rh_log, 1)},{gps}\n")
         z_std = std.height(float(p_log))
+        rh_true = kestrel_rh_percent(zs)
+        tv_true = virtual_temperature(ta, rh_true, p_true)
         truth.write(f"{utc},{fmt(zs - KESTREL_Z_LAUNCH, 3)},{fmt(zs, 3)},{fmt(p_true, 3)},"
-                    f"{fmt(ta - KELVIN, 3)},{fmt(z_std - KESTREL_Z_LAUNCH, 3)}\n")
-        std_check_max = max(std_check_max, abs(ussa76_closed_form_pressure(zs) / p_true - 1.0))
+                    f"{fmt(ta - KELVIN, 3)},{fmt(z_std - z_std_launch, 3)},"
+                    f"{fmt(rh_true, 2)},{fmt(tv_true - KELVIN, 3)}\n")
         if zs > max_sample[0]:
             max_sample = (zs, t)
-        if t_burst is not None and t <= t_burst and t >= t_launch:
-            if prev_asc_z is not None:
-                e_hpa = rh / 100.0 * magnus_saturation_vapour_pressure_hpa(ta - KELVIN)
-                ratio = 1.0 / (1.0 - (e_hpa * 100.0 / p_true) * (1.0 - EPSILON)) - 1.0
-                virt_offset += ratio * (zs - prev_asc_z)
-            prev_asc_z = zs
     n_rows = len(samples)
     w.put("kestrel2_balloon.csv", log.getvalue().encode("utf-8"), n_rows)
     w.put("truth/kestrel2_balloon_truth.csv", truth.getvalue().encode("utf-8"), n_rows)
 
     tsec = [s[0] for s in samples]
     box_c = [s[6] - KELVIN for s in samples]
+
+    # How much lower a hypsometric integration of the air temperature alone
+    # (humidity ignored) puts the burst: dz_dry = (T / T_v) dz, so the deficit
+    # is the integral of (1 - T/T_v) dz from the launch point to the burst
+    # (trapezoid on the 1 m grid; g(z) is the same for both).
+    def dry_ratio(zz: float) -> float:
+        return 1.0 - col.temperature(zz) / col.virtual_temperature(zz, col.pressure(zz))
+
+    n_grid = int(math.floor(z_burst - KESTREL_Z_LAUNCH))
+    nodes = [KESTREL_Z_LAUNCH + i for i in range(n_grid + 1)] + [z_burst]
+    dry_deficit = 0.0
+    prev_z, prev_r = nodes[0], dry_ratio(nodes[0])
+    for zz in nodes[1:]:
+        r = dry_ratio(zz)
+        dry_deficit += 0.5 * (r + prev_r) * (zz - prev_z)
+        prev_z, prev_r = zz, r
+
+    # Sea-level pressure for which the standard atmosphere puts the launch
+    # point at 212 m (the ICAO QNH definition): inverse of USSA76 eq. 33a in
+    # the lowest layer at H = geopotential of 212 m.
+    qnh = KESTREL_P_LAUNCH / (1.0 - 0.0065 * geopotential_height(KESTREL_Z_LAUNCH) / T0) \
+        ** (G0 * M0 / (RSTAR * 0.0065))
+    tv_launch = col.virtual_temperature(KESTREL_Z_LAUNCH, KESTREL_P_LAUNCH)
     ev = {
         "log_start_time": utc_string(KESTREL_START),
         "log_end_time": utc_string(KESTREL_START + tsec[-1]),
@@ -535,14 +665,34 @@ def make_kestrel(std: HydrostaticColumn, w: Writer) -> dict:
         "interval_s": 2.0,
         "launch_site": {"lat": KESTREL_SITE_LAT, "lon": KESTREL_SITE_LON,
                         "elevation_m": KESTREL_Z_LAUNCH,
+                        "pressure_pa": KESTREL_P_LAUNCH,
+                        "temperature_c": round(kestrel_temperature(KESTREL_Z_LAUNCH) - KELVIN, 3),
+                        "rh_pct": round(kestrel_rh_percent(KESTREL_Z_LAUNCH), 2),
+                        "virtual_temperature_c": round(tv_launch - KELVIN, 3),
+                        "qnh_pa": round(qnh, 3),
                         "standard_pressure_pa": round(std.pressure(KESTREL_Z_LAUNCH), 3)},
+        "atmosphere": {
+            "kind": "moist, non-standard: piecewise-linear T(z) and RH(z) in geometric "
+                    "height MSL, hydrostatic with the virtual temperature",
+            "temperature_nodes_m_c": [[zz, tt] for zz, tt in KESTREL_TEMPERATURE_NODES],
+            "rh_nodes_m_pct": [[zz, hh] for zz, hh in KESTREL_RH_NODES],
+            "humidity": "RH over water; e = RH/100 f(p) e_w(T), WMO-No. 8 Annex 4.B eq. 4.B.1 "
+                        "and f(p); T_v = T / (1 - (e/p)(1 - eps))",
+            "epsilon": round(EPSILON, 8),
+            "gravity": "g(z) = g0 (r0 / (r0 + z))^2, r0 = 6356766 m (standard frame, no latitude)",
+            "tropopause_altitude_m": 12500.0,
+            "tropopause_temperature_c": -58.0,
+            "tropopause_pressure_pa": round(col.pressure(12500.0), 3),
+        },
         "launch_time": utc_string(KESTREL_START + t_launch),
         "launch_elapsed_s": t_launch,
         "burst_time": utc_string(KESTREL_START + t_burst, 1),
         "burst_elapsed_s": round(t_burst, 1),
         "burst_altitude_m": round(z_burst, 3),
         "burst_height_m": round(z_burst - KESTREL_Z_LAUNCH, 3),
-        "burst_pressure_pa": round(std.pressure(z_burst), 3),
+        "burst_pressure_pa": round(col.pressure(z_burst), 3),
+        "burst_temperature_c": round(kestrel_temperature(z_burst) - KELVIN, 3),
+        "burst_geopotential_altitude_m": round(geopotential_height(z_burst), 3),
         "max_sampled_altitude_m": round(max_sample[0], 3),
         "max_sampled_height_m": round(max_sample[0] - KESTREL_Z_LAUNCH, 3),
         "max_sampled_elapsed_s": max_sample[1],
@@ -561,8 +711,7 @@ def make_kestrel(std: HydrostaticColumn, w: Writer) -> dict:
         "wind_scale": round(scale, 4),
         "temp_int_min_c": round(min(box_c), 2),
         "gps_first_fix_elapsed_s": 46.0,
-        "virtual_temperature_offset_at_burst_m": round(virt_offset, 2),
-        "truth_vs_closed_form_max_rel_p": float(f"{std_check_max:.2e}"),
+        "dry_air_height_deficit_at_burst_m": round(dry_deficit, 2),
     }
     return ev
 
@@ -928,12 +1077,20 @@ def generate(report: dict) -> Writer:
             or s["interp_max_abs_z_m"] > 1e-3:
         raise AssertionError(f"numerical study out of bounds: {s}")
 
+    kestrel = kestrel_column(1.0)
+    report["kestrel"] = numerical_study(kestrel, kestrel_column(0.5))
+    k = report["kestrel"]
+    if k["halving_max_rel_p"] > 1e-8 or k["interp_max_abs_z_m"] > 1e-3:
+        raise AssertionError(f"numerical study out of bounds: {k}")
+
     w = Writer()
+    kestrel_events = make_kestrel(std, kestrel, w)
+    kestrel_events["truth_step_halving_max_rel_p"] = float(f"{k['halving_max_rel_p']:.2e}")
     events = {
         "generator": "tools/make_demo_data.py",
         "note": "true events of the demo scenarios; times of flight events are exact "
                 "(0.1 s simulation step), not rounded to the log interval",
-        "kestrel2_balloon": make_kestrel(std, w),
+        "kestrel2_balloon": kestrel_events,
         "hollin_drone_hop": make_hollin(w, report),
         "stairwell_walk": make_stairwell(w, report),
         "damaged_logger": make_damaged(w),
