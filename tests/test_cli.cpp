@@ -231,7 +231,9 @@ TEST_CASE("an output file is written atomically and equals stdout output", "[cli
 }
 
 TEST_CASE("NDJSON output uses the same names as keys and null for unknown", "[cli]") {
-  auto r = run_cli({"height", "-f", "ndjson", "--ref-pressure", "1013.25", "-"}, kSmallLog);
+  auto r = run_cli({"height", "-f", "ndjson", "--model", "standard", "--ref-pressure", "1013.25",
+                    "-"},
+                   kSmallLog);
   REQUIRE(r.status == 0);
   auto lines = split_lines(r.out);
   REQUIRE(lines.size() == 4);
@@ -349,4 +351,18 @@ TEST_CASE("baroz inspect reports columns, units, rate and rejects", "[cli]") {
   CHECK(r.out.find("'temp_int_c'") != std::string::npos);  // listed as unused
   CHECK(r.out.find("3 read, 2 usable, 1 rejected") != std::string::npos);
   CHECK(r.err.find("<stdin>:4: column 'press_pa': \"oops\" is not a number") != std::string::npos);
+}
+
+TEST_CASE("repeatable options take one value each and the input may follow them", "[cli]") {
+  // Guards: a repeatable option (--col, --precision, --above) must not
+  // swallow the input file that follows it (POSIX utility syntax: operands
+  // after options).
+  TempDir d;
+  auto in = d.file("log.csv", "t_s,p_hpa\n0,1013.25\n1,1013.25\n2,900\n");
+  auto r = run_cli({"height", "--col", "time=t_s", "--col", "pressure=p_hpa", "--precision", "1",
+                    "--ref-pressure", "1013.25", in});
+  REQUIRE(r.status == 0);
+  const auto lines = split_lines(r.out);
+  REQUIRE(lines.size() == 4);
+  CHECK(lines[3].find(",988.7,") != std::string::npos);  // reference-values.md §1.5: 988.65 m
 }

@@ -11,12 +11,6 @@
 
 namespace baroz::cli {
 
-const std::string_view kCaution =
-    "Caution: barometric heights are estimates. They are not certified for navigation or "
-    "separation from terrain, obstacles or aircraft; follow local aviation rules and licensed "
-    "practice, and never use this output as the sole altitude source for flight-critical "
-    "decisions.";
-
 namespace {
 
 std::string lower_first(std::string s) {
@@ -41,6 +35,8 @@ int run_impl(std::span<const std::string_view> args, const Streams& streams) {
   add_height_command(app, streams, status, arguments);
   add_atmosphere_command(app, streams, status);
   add_inspect_command(app, streams, status);
+  add_summary_command(app, streams, status);
+  add_plot_command(app, streams, status);
 
   std::vector<std::string> reversed(args.rbegin(), args.rend());
   try {

@@ -23,7 +23,7 @@ void add_reader_options(CLI::App& app, ReaderArgs& a) {
   app.add_option("--col", a.cols,
                  "Column for a role (time, pressure, temperature, humidity, lat, lon, "
                  "gnss_alt); an empty NAME ignores the role; repeatable")
-      ->type_name("ROLE=NAME")
+      ->allow_extra_args(false)->type_name("ROLE=NAME")
       ->group("Input");
   app.add_option("--pressure-unit", a.pressure_unit,
                  "Unit of the pressure column: Pa, hPa, kPa, mbar, bar, inHg, mmHg, psi, atm "

@@ -49,5 +49,7 @@ void add_height_command(CLI::App& app, const Streams& streams, int& status,
                         const std::vector<std::string>& arguments);
 void add_atmosphere_command(CLI::App& app, const Streams& streams, int& status);
 void add_inspect_command(CLI::App& app, const Streams& streams, int& status);
+void add_summary_command(CLI::App& app, const Streams& streams, int& status);
+void add_plot_command(CLI::App& app, const Streams& streams, int& status);
 
 }  // namespace baroz::cli

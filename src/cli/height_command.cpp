@@ -17,26 +17,28 @@
 #include "baroz/output/atomic_file.hpp"
 #include "baroz/output/manifest.hpp"
 #include "baroz/output/rejects_writer.hpp"
+#include "baroz/output/summary_writer.hpp"
+#include "baroz/output/svg_plot.hpp"
+#include "baroz/pipeline/flight_analysis.hpp"
 #include "baroz/pipeline/height_job.hpp"
+#include "analysis_output.hpp"
 #include "cli_common.hpp"
+#include "pipeline_args.hpp"
 
 namespace baroz::cli {
 namespace {
 
 struct HeightArgs {
-  ReaderArgs reader;
+  PipelineArgs pipeline;
   std::string output;
   std::string format;
-  std::string model = "auto";
-  std::string temperature_model = "reference";
-  std::string ref_pressure, qnh, elevation, ref_window, ref_temperature;
-  std::string sigma_p, sigma_ref, sigma_t, sigma_t_model, confidence;
   std::string height_unit = "m";
   std::vector<std::string> precision;
-  std::string manifest, rejects, p_range;
-  bool strict = false;
+  std::string manifest, rejects, summary, plot;
   bool no_flags = false;
   bool geopotential = false;
+  bool vspeed = false;
+  bool despike = false;
   bool line_buffered = false;
   bool quiet = false;
   int jobs = 0;
@@ -51,81 +53,7 @@ int parse_decimals(const std::string& text, const std::string& spec) {
 }
 
 HeightOptions resolve_options(const HeightArgs& a) {
-  HeightOptions o;
-  o.reader = reader_options(a.reader);
-  o.columns = column_options(a.reader);
-  o.decimal_comma = a.reader.decimal_comma;
-
-  auto model = parse_model_name(a.model);
-  if (!model)
-    throw usage_error(fmt::format(
-        "--model: \"{}\" is not a model (auto, isothermal, standard, profile)", a.model));
-  o.model = *model;
-  if (o.model == ModelKind::kProfile)
-    throw usage_error("--model profile: the profile model is not available in this version");
-  if (a.temperature_model == "mean") o.temperature_model = IsothermalTemperature::kMean;
-  else o.temperature_model = IsothermalTemperature::kReference;
-
-  ReferenceOptions& r = o.reference;
-  if (!a.ref_pressure.empty()) {
-    r.kind = ReferenceKind::kPressure;
-    r.pressure_pa = parse_pressure_option(a.ref_pressure, "--ref-pressure");
-  } else if (!a.qnh.empty()) {
-    r.kind = ReferenceKind::kQnh;
-    r.pressure_pa = parse_pressure_option(a.qnh, "--qnh");
-  } else {
-    r.kind = ReferenceKind::kWindow;
-  }
-  if (!std::isnan(r.pressure_pa) && !(r.pressure_pa > 0.0))
-    throw usage_error("the reference pressure must be positive");
-  if (!a.ref_window.empty() && a.ref_window != "auto") {
-    r.window_s = parse_duration_option(a.ref_window, "--ref-window");
-    if (!(*r.window_s > 0.0)) throw usage_error("--ref-window: the duration must be positive");
-  }
-  if (!a.ref_temperature.empty()) {
-    r.temperature_k = parse_temperature_option(a.ref_temperature, "--ref-temperature");
-    if (!(*r.temperature_k > 0.0))
-      throw usage_error("--ref-temperature: the temperature must be above 0 K");
-  }
-  if (!a.elevation.empty()) r.elevation_m = parse_length_option(a.elevation, "--elevation");
-  if (r.kind == ReferenceKind::kQnh && o.model == ModelKind::kIsothermal)
-    throw usage_error(
-        "--qnh uses the standard atmosphere's altimeter relation; it cannot be combined with "
-        "--model isothermal");
-  if (o.temperature_model == IsothermalTemperature::kMean && o.model != ModelKind::kIsothermal)
-    throw usage_error("--temperature-model applies to --model isothermal only");
-
-  ErrorBudgetOptions& b = o.budget;
-  auto sigma = [](const std::string& text, const char* option, double (*parse)(std::string_view, std::string_view),
-                  double& value) {
-    if (text.empty()) return;
-    value = parse(text, option);
-    if (!(value >= 0.0)) throw usage_error(fmt::format("{}: a sigma cannot be negative", option));
-  };
-  sigma(a.sigma_p, "--sigma-p", parse_pressure_option, b.sigma_p_pa);
-  sigma(a.sigma_ref, "--sigma-ref", parse_pressure_option, b.sigma_ref_pa);
-  sigma(a.sigma_t, "--sigma-t", parse_temperature_difference_option, b.sigma_t_k);
-  sigma(a.sigma_t_model, "--sigma-t-model", parse_temperature_difference_option,
-        b.sigma_t_model_k);
-  if (!a.confidence.empty()) {
-    b.confidence = parse_number_option(a.confidence, "--confidence");
-    if (!(b.confidence > 0.0 && b.confidence < 1.0))
-      throw usage_error(fmt::format("--confidence: {} is not between 0 and 1", a.confidence));
-  }
-
-  if (!a.p_range.empty()) {
-    auto colon = a.p_range.find(':');
-    if (colon == std::string::npos)
-      throw usage_error(fmt::format("--p-range: \"{}\" is not LOW:HIGH", a.p_range));
-    const double lo = parse_pressure_option(a.p_range.substr(0, colon), "--p-range");
-    const double hi = parse_pressure_option(a.p_range.substr(colon + 1), "--p-range");
-    if (!(lo >= 0.0 && hi > lo))
-      throw usage_error(fmt::format("--p-range: \"{}\" needs 0 <= LOW < HIGH", a.p_range));
-    o.validation.p_min_pa = lo;
-    o.validation.p_max_pa = hi;
-    o.validation.p_min_inclusive = lo > 0.0;
-  }
-
+  HeightOptions o = resolve_pipeline_options(a.pipeline);
   SeriesOptions& s = o.series;
   s.height_unit = a.height_unit == "ft" ? LengthUnit::kFoot : LengthUnit::kMetre;
   for (const auto& spec : a.precision) {
@@ -146,6 +74,8 @@ HeightOptions resolve_options(const HeightArgs& a) {
   }
   s.flags = !a.no_flags;
   s.geopotential = a.geopotential;
+  o.vspeed = a.vspeed;
+  o.despike = a.despike;
   s.line_buffered = a.line_buffered;
   if (a.format == "ndjson") s.format = OutputFormat::kNdjson;
   else if (a.format == "csv") s.format = OutputFormat::kCsv;
@@ -154,7 +84,6 @@ HeightOptions resolve_options(const HeightArgs& a) {
     s.format = (ext == ".ndjson" || ext == ".jsonl" || ext == ".json") ? OutputFormat::kNdjson
                                                                          : OutputFormat::kCsv;
   }
-  o.strict = a.strict;
   return o;
 }
 
@@ -167,7 +96,8 @@ struct InputResult {
 
 InputResult run_one(const std::string& input, const std::string& output,
                     const HeightOptions& options, const Streams& streams, Diagnostics& diag,
-                    RejectsWriter* rejects, bool batch, bool hash_inputs) {
+                    RejectsWriter* rejects, bool batch, bool hash_inputs,
+                    FlightSeries* collect = nullptr) {
   InputResult result;
   try {
     std::unique_ptr<ByteSource> source = open_input(input, streams);
@@ -175,7 +105,7 @@ InputResult run_one(const std::string& input, const std::string& output,
     std::unique_ptr<ByteSink> sink = output == "-"
                                          ? make_ostream_sink(streams.out, "standard output")
                                          : make_atomic_file_sink(output);
-    result.report = run_height_job(*source, *sink, options, diag, rejects);
+    result.report = run_height_job(*source, *sink, options, diag, rejects, collect);
     result.ran = true;
     const HeightReport& r = result.report;
     diag.counts(r.source, batch, r.rows_read, r.rows_written, r.rows_rejected);
@@ -204,10 +134,10 @@ int run_height(const HeightArgs& a, const Streams& streams,
                const std::vector<std::string>& arguments) {
   HeightOptions options = resolve_options(a);
   Diagnostics diag(streams.err,
-                   a.reader.error_format == "json" ? ErrorFormat::kJson : ErrorFormat::kText,
+                   a.pipeline.reader.error_format == "json" ? ErrorFormat::kJson : ErrorFormat::kText,
                    a.quiet);
 
-  std::vector<std::string> inputs = a.reader.inputs;
+  std::vector<std::string> inputs = a.pipeline.reader.inputs;
   if (inputs.empty()) inputs.push_back("-");
   {
     std::size_t stdin_count = 0;
@@ -245,9 +175,27 @@ int run_height(const HeightArgs& a, const Streams& streams,
     rejects = std::make_unique<RejectsWriter>(make_atomic_file_sink(a.rejects));
 
   std::vector<InputResult> results(inputs.size());
+  if (batch && (!a.summary.empty() || !a.plot.empty()))
+    throw usage_error("--summary and --plot go with one input, not batch mode");
   if (!batch) {
+    const bool analyse = !a.summary.empty() || !a.plot.empty();
+    FlightSeries series;
     results[0] = run_one(inputs[0], outputs[0], options, streams, diag, rejects.get(), false,
-                         !a.manifest.empty());
+                         !a.manifest.empty(), analyse ? &series : nullptr);
+    if (analyse && results[0].status == 0) {
+      AnalysisOptions ao;
+      ao.smoothing = options.smoothing;
+      const FlightAnalysis fa = analyse_flight(series, ao);
+      if (!a.summary.empty())
+        write_text_output(a.summary, summary_json(series, fa.events, fa.summary), streams);
+      if (!a.plot.empty()) {
+        PlotOptions po;
+        po.height_unit = options.series.height_unit;
+        std::string svg;
+        write_svg_plot(series, fa.events, po, svg);
+        write_text_output(a.plot, svg, streams);
+      }
+    }
   } else {
     unsigned jobs = a.jobs > 0 ? static_cast<unsigned>(a.jobs)
                                : std::max(1u, std::thread::hardware_concurrency());
@@ -285,7 +233,7 @@ int run_height(const HeightArgs& a, const Streams& streams,
     run.arguments = arguments;
     run.outputs = outputs;
     run.rejects_path = a.rejects;
-    run.time_zone = a.reader.tz.empty() ? "UTC" : a.reader.tz;
+    run.time_zone = a.pipeline.reader.tz.empty() ? "UTC" : a.pipeline.reader.tz;
     const std::string doc = height_manifest(run, options, reports);
     AtomicFile file(a.manifest);
     file.write(doc.data(), doc.size());
@@ -302,7 +250,6 @@ void add_height_command(CLI::App& app, const Streams& streams, int& status,
   CLI::App* cmd = app.add_subcommand(
       "height", "Convert logs to a height series with an error band (the main job)");
   cmd->footer(std::string("\n") + std::string(kCaution));
-  add_reader_options(*cmd, args->reader);
   HeightArgs& a = *args;
 
   cmd->add_option("-o,--output", a.output,
@@ -316,8 +263,14 @@ void add_height_command(CLI::App& app, const Streams& streams, int& status,
   cmd->add_option("--precision", a.precision,
                   "Decimals: N for heights, or height=N, pressure=N, temperature=N, elapsed=N "
                   "(defaults 3, 4, 3, 3)")
-      ->type_name("SPEC")->group("Output");
+      ->allow_extra_args(false)->type_name("SPEC")->group("Output");
   cmd->add_flag("--geopotential", a.geopotential, "Also write geopotential_height_m")
+      ->group("Output");
+  cmd->add_flag("--vspeed", a.vspeed,
+                "Also write vspeed_mps, the vertical speed from a local fit of the height")
+      ->group("Output");
+  cmd->add_flag("--despike", a.despike,
+                "Flag pressure spikes (rows kept, flag 'spike') with a Hampel filter")
       ->group("Output");
   cmd->add_flag("--no-flags", a.no_flags, "Leave out the flags column")->group("Output");
   cmd->add_flag("--line-buffered", a.line_buffered,
@@ -327,61 +280,16 @@ void add_height_command(CLI::App& app, const Streams& streams, int& status,
                   "Write a JSON run manifest (inputs with SHA-256, options, constants, model, "
                   "reference)")
       ->type_name("FILE")->group("Output");
+  cmd->add_option("--summary", a.summary,
+                  "Also write the flight summary (JSON, as baroz summary) to FILE")
+      ->type_name("FILE")->group("Output");
+  cmd->add_option("--plot", a.plot, "Also write the SVG plot (as baroz plot) to FILE")
+      ->type_name("FILE")->group("Output");
   cmd->add_option("--rejects", a.rejects,
                   "Write every rejected row as source,line,reason,raw")
       ->type_name("FILE")->group("Output");
 
-  cmd->add_option("-m,--model", a.model,
-                  "Height model: auto (default), isothermal, standard, profile")
-      ->type_name("MODEL")->group("Model");
-  cmd->add_option("--temperature-model", a.temperature_model,
-                  "Isothermal model temperature: reference (ground, default) or mean (of "
-                  "ground and sample)")
-      ->check(CLI::IsMember({"reference", "mean"}))->type_name("reference|mean")->group("Model");
-
-  auto* rp = cmd->add_option("--ref-pressure", a.ref_pressure,
-                             "Known ground pressure (QFE), e.g. 1013.25 or 101325Pa")
-                 ->type_name("P")->group("Reference");
-  auto* qnh = cmd->add_option("--qnh", a.qnh,
-                              "Altimeter setting: altitude_m by the standard atmosphere with "
-                              "sea-level pressure QNH")
-                  ->type_name("P")->group("Reference");
-  cmd->add_option("--ref-window", a.ref_window,
-                             "Reference from the mean of the first DUR (e.g. 90s, 2min), or "
-                             "auto: the detected stationary pre-launch segment (default)")
-                 ->type_name("DUR|auto")->group("Reference");
-  rp->excludes(qnh);
-  // --ref-window may go with --qnh (the height datum) or --ref-pressure (T_ref).
-  cmd->add_option("--elevation", a.elevation,
-                  "Site elevation above MSL (e.g. 412m, 1350ft): adds altitude_m")
-      ->type_name("H")->group("Reference");
-  cmd->add_option("--ref-temperature", a.ref_temperature,
-                  "Reference temperature for isothermal (bare K, or 15C); default: mean of "
-                  "the reference window, else 288.15 K")
-      ->type_name("T")->group("Reference");
-
-  cmd->add_option("--sigma-p", a.sigma_p, "1-sigma noise of each pressure sample (default 0.05 hPa)")
-      ->type_name("P")->group("Uncertainty");
-  cmd->add_option("--sigma-ref", a.sigma_ref,
-                  "1-sigma error of the reference pressure (default 0.1 hPa)")
-      ->type_name("P")->group("Uncertainty");
-  cmd->add_option("--sigma-t", a.sigma_t,
-                  "1-sigma error of the temperature the model uses (default 0.5 K)")
-      ->type_name("K")->group("Uncertainty");
-  cmd->add_option("--sigma-t-model", a.sigma_t_model,
-                  "standard model: 1-sigma deviation of the real column temperature from the "
-                  "standard one (default 5 K)")
-      ->type_name("K")->group("Uncertainty");
-  cmd->add_option("--confidence", a.confidence,
-                  "Two-sided confidence of the band (default 0.95)")
-      ->type_name("P")->group("Uncertainty");
-
-  cmd->add_option("--p-range", a.p_range,
-                  "Accepted pressure range LOW:HIGH (default 0:1500 hPa, physical "
-                  "plausibility)")
-      ->type_name("LOW:HIGH")->group("Validation");
-  cmd->add_flag("--strict", a.strict, "Stop at the first rejected row (exit status 3)")
-      ->group("Validation");
+  add_pipeline_options(*cmd, a.pipeline);
   cmd->add_option("-j,--jobs", a.jobs, "Files processed in parallel in batch mode (default: cores)")
       ->type_name("N")->check(CLI::PositiveNumber)->group("Batch");
   cmd->add_flag("-q,--quiet", a.quiet, "No notes on stderr (problems and counts remain)")

@@ -48,6 +48,33 @@ std::size_t read_fd(int fd, char* buffer, std::size_t capacity, const std::strin
   }
 }
 
+/// Reads a regular file's descriptor with pread(2) from its own offset, so
+/// that it does not disturb another reader of the same descriptor.
+class PreadSource : public ByteSource {
+ public:
+  PreadSource(int fd, std::string name) : ByteSource(std::move(name)), fd_(fd) {}
+  bool is_regular_file() const override { return true; }
+
+ protected:
+  std::size_t read_some(char* buffer, std::size_t capacity) override {
+    if (capacity == 0) return 0;
+    capacity = std::min<std::size_t>(capacity, std::size_t{1} << 30);
+    for (;;) {
+      ssize_t n = ::pread(fd_, buffer, capacity, offset_);
+      if (n >= 0) {
+        offset_ += n;
+        return static_cast<std::size_t>(n);
+      }
+      if (errno == EINTR) continue;
+      throw input_error("cannot read '" + name() + "': " + reason(errno));
+    }
+  }
+
+ private:
+  int fd_;
+  off_t offset_ = 0;
+};
+
 class FdSource : public ByteSource {
  public:
   FdSource(int fd, std::string name, bool owned)
@@ -56,6 +83,10 @@ class FdSource : public ByteSource {
     regular_ = ::fstat(fd_, &info) == 0 && S_ISREG(info.st_mode);
   }
   bool is_regular_file() const override { return regular_; }
+  std::unique_ptr<ByteSource> reopen() const override {
+    if (!regular_) return nullptr;
+    return std::make_unique<PreadSource>(fd_, name());
+  }
   ~FdSource() override {
     if (owned_) ::close(fd_);
   }
@@ -111,6 +142,9 @@ class IstreamSource : public ByteSource {
 class StringSource : public ByteSource {
  public:
   bool is_regular_file() const override { return true; }  // never blocks
+  std::unique_ptr<ByteSource> reopen() const override {
+    return std::make_unique<StringSource>(data_, name());
+  }
   StringSource(std::string data, std::string name)
       : ByteSource(std::move(name)), data_(std::move(data)) {}
 

@@ -239,7 +239,7 @@ ColumnMap map_columns(const std::vector<std::string>& header, const ColumnOption
   };
   std::string all;
   for (const auto& h : header) all += (all.empty() ? "'" : ", '") + h + "'";
-  if (!map.has(Role::kTime))
+  if (!map.has(Role::kTime) && options.require_time)
     throw input_error(fmt::format(
         "{}: no time column found among {}; name it with --col time=NAME", source, all));
   if (!map.has(Role::kPressure))
@@ -247,7 +247,9 @@ ColumnMap map_columns(const std::vector<std::string>& header, const ColumnOption
         "{}: no pressure column found among {}; name it with --col pressure=NAME", source, all));
 
   const auto t = static_cast<std::size_t>(Role::kTime);
-  if (options.time_unit) {
+  if (!map.has(Role::kTime)) {
+    map.time_unit = TimeUnit::kSeconds;
+  } else if (options.time_unit) {
     map.time_unit = *options.time_unit;
     map.unit_source[t] = "option";
   } else if (auto u = parse_time_unit(unit_of(Role::kTime))) {

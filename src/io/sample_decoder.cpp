@@ -85,6 +85,31 @@ bool SampleDecoder::parse_time(std::string_view text, TimeNs& out) {
   return true;
 }
 
+bool SampleDecoder::decode_time(const Record& record, std::string_view time_text, Sample& s,
+                                RowProblem& problem) {
+  if (time_text.data() == nullptr)
+    return fail(problem, record, RejectReason::kMissingField, Role::kTime,
+                fmt::format("column '{}': missing field", map_.name[0]));
+  while (!time_text.empty() && (time_text.front() == ' ' || time_text.front() == '\t'))
+    time_text.remove_prefix(1);
+  while (!time_text.empty() && (time_text.back() == ' ' || time_text.back() == '\t'))
+    time_text.remove_suffix(1);
+  if (time_text.empty())
+    return fail(problem, record, RejectReason::kMissingField, Role::kTime,
+                fmt::format("column '{}': empty field", map_.name[0]));
+  if (!parse_time(time_text, s.time_ns))
+    return fail(problem, record, RejectReason::kBadTime, Role::kTime,
+                fmt::format("column '{}': \"{}\" is not a valid time ({})", map_.name[0],
+                            shown(time_text),
+                            map_.time_format == TimeFormat::kRfc3339
+                                ? "expected RFC 3339 like the first row"
+                                : map_.time_format == TimeFormat::kNumber
+                                      ? "expected a number like the first row"
+                                      : "expected a number or an RFC 3339 date-time"));
+  s.time_text = time_text;
+  return true;
+}
+
 bool SampleDecoder::decode(const Record& record, Sample& s, RowProblem& problem) {
   if (record.problem != RecordProblem::kNone) {
     std::string msg(record_problem_text(record.problem));
@@ -110,28 +135,13 @@ bool SampleDecoder::decode(const Record& record, Sample& s, RowProblem& problem)
   s.raw = record.raw;
   s.flags = kFlagNone;
 
-  // Time (required).
-  std::string_view time_text = field(Role::kTime);
-  if (time_text.data() == nullptr)
-    return fail(problem, record, RejectReason::kMissingField, Role::kTime,
-                fmt::format("column '{}': missing field", map_.name[0]));
-  while (!time_text.empty() && (time_text.front() == ' ' || time_text.front() == '\t'))
-    time_text.remove_prefix(1);
-  while (!time_text.empty() && (time_text.back() == ' ' || time_text.back() == '\t'))
-    time_text.remove_suffix(1);
-  if (time_text.empty())
-    return fail(problem, record, RejectReason::kMissingField, Role::kTime,
-                fmt::format("column '{}': empty field", map_.name[0]));
-  if (!parse_time(time_text, s.time_ns))
-    return fail(problem, record, RejectReason::kBadTime, Role::kTime,
-                fmt::format("column '{}': \"{}\" is not a valid time ({})", map_.name[0],
-                            shown(time_text),
-                            map_.time_format == TimeFormat::kRfc3339
-                                ? "expected RFC 3339 like the first row"
-                                : map_.time_format == TimeFormat::kNumber
-                                      ? "expected a number like the first row"
-                                      : "expected a number or an RFC 3339 date-time"));
-  s.time_text = time_text;
+  // Time (required, except in a table without time: see ColumnOptions).
+  if (!map_.has(Role::kTime)) {
+    s.time_ns = 0;
+    s.time_text = {};
+  } else if (!decode_time(record, field(Role::kTime), s, problem)) {
+    return false;
+  }
 
   // Numeric roles. Returns false (and fills problem) on a bad field;
   // `value` is NaN for a missing optional value.

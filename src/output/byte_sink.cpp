@@ -36,7 +36,15 @@ class AtomicFileSink final : public ByteSink {
   AtomicFile file_;
 };
 
+class NullSink : public ByteSink {
+ public:
+  void write(const char*, std::size_t) override {}
+  void flush() override {}
+};
+
 }  // namespace
+
+std::unique_ptr<ByteSink> make_null_sink() { return std::make_unique<NullSink>(); }
 
 std::unique_ptr<ByteSink> make_ostream_sink(std::ostream& out, std::string name) {
   return std::make_unique<OstreamSink>(out, std::move(name));

@@ -162,6 +162,37 @@ std::string height_manifest(const ManifestRun& run, const HeightOptions& o,
     j.key("requested"); j.value(model_name(o.model));
     j.key("chosen"); j.value(model_name(r.model));
     j.key("reason"); j.value(r.model_reason);
+    j.key("profile");
+    if (r.profile) {
+      const ProfileBuild& pb = *r.profile;
+      j.begin_object();
+      j.key("source"); j.value(pb.source);
+      j.key("sha256");
+      if (pb.sha256.empty()) j.null(); else j.value(pb.sha256);
+      j.key("causal"); j.value(r.causal_profile);
+      j.key("leg"); j.value(profile_leg_name(o.profile.builder.leg));
+      j.key("layer_m"); j.value(o.profile.builder.layer_m);
+      j.key("samples"); j.value(pb.samples);
+      j.key("layers"); j.value(pb.layers);
+      j.key("humidity");
+      j.value(pb.humidity ? "virtual temperature from relative humidity (WMO-No. 8 Annex 4.B)"
+                          : "none: dry air (T_v = T)");
+      j.key("saturation");
+      j.value(o.profile.saturation == SaturationPhase::kIceBelowZero ? "ice below 0 C"
+                                                                       : "water");
+      j.end_object();
+    } else {
+      j.null();
+    }
+    j.key("gravity");
+    j.begin_object();
+    j.key("frame"); j.value(r.gravity.empty() ? std::string("standard") : r.gravity);
+    j.key("latitude_deg"); j.value(r.latitude_deg);
+    j.key("latitude_from");
+    if (r.latitude_source.empty()) j.null(); else j.value(r.latitude_source);
+    j.end_object();
+    j.key("rows_extrapolated"); j.value(r.extrapolated_rows);
+    j.key("rows_spike"); j.value(r.spike_rows);
     j.end_object();
     j.key("reference"); write_reference(j, r);
     j.end_object();
@@ -173,6 +204,18 @@ std::string height_manifest(const ManifestRun& run, const HeightOptions& o,
   j.key("model"); j.value(model_name(o.model));
   j.key("temperature_model");
   j.value(o.temperature_model == IsothermalTemperature::kMean ? "mean" : "reference");
+  j.key("profile_file");
+  if (o.profile.file.empty()) j.null(); else j.value(o.profile.file);
+  j.key("profile_leg"); j.value(profile_leg_name(o.profile.builder.leg));
+  j.key("profile_layer_m"); j.value(o.profile.builder.layer_m);
+  j.key("saturation");
+  j.value(o.profile.saturation == SaturationPhase::kIceBelowZero ? "ice" : "water");
+  j.key("latitude_deg");
+  if (o.latitude_deg) j.value(*o.latitude_deg); else j.null();
+  j.key("vspeed"); j.value(o.vspeed);
+  j.key("despike"); j.value(o.despike);
+  j.key("spike_window_s"); j.value(o.smoothing.spike_window_s);
+  j.key("vspeed_window_s"); j.value(o.smoothing.vspeed_window_s);
   j.key("reference_kind"); j.value(reference_kind_name(o.reference.kind));
   j.key("ref_pressure_hpa");
   if (o.reference.kind == ReferenceKind::kPressure) j.value(o.reference.pressure_pa / 100.0);
@@ -230,8 +273,12 @@ std::string height_manifest(const ManifestRun& run, const HeightOptions& o,
   j.key("p0_pa"); j.value(constants::kP0);
   j.key("t0_k"); j.value(constants::kT0);
   j.key("foot_m"); j.value(constants::kFoot);
+  j.key("epsilon_water_air"); j.value(constants::kEpsilon);
+  j.key("wgs84_gamma_e_m_s2"); j.value(constants::kWgs84GammaE);
+  j.key("wgs84_gamma_p_m_s2"); j.value(constants::kWgs84GammaP);
   j.key("source");
-  j.value("U.S. Standard Atmosphere, 1976 (NOAA-S/T 76-1562), Table 2 and Table 4");
+  j.value("U.S. Standard Atmosphere, 1976 (NOAA-S/T 76-1562), Table 2 and Table 4; "
+          "NIMA TR8350.2 (WGS 84); WMO-No. 8 Annex 4.B (humidity)");
   j.end_object();
 
   j.key("output_columns");

@@ -68,6 +68,9 @@ SeriesWriter::SeriesWriter(ByteSink& sink, const SeriesOptions& options, bool ti
   };
   if (options_.altitude)
     columns_.push_back({"altitude" + hs, hu, "altitude", "geometric height above mean sea level"});
+  if (options_.vspeed)
+    columns_.push_back({"vspeed_mps", "m s-1", "",
+                        "vertical speed from a local fit of the height (positive up)"});
   if (options_.geopotential)
     columns_.push_back({"geopotential_height" + hs, hu, "geopotential_height",
                         "geopotential height above the reference level"});
@@ -174,6 +177,10 @@ void SeriesWriter::write_row(const SeriesRow& r) {
   if (options_.altitude) {
     sep();
     p = number(p, r.altitude_m, options_.height_decimals, hscale);
+  }
+  if (options_.vspeed) {
+    sep();
+    p = number(p, r.vspeed_mps, options_.vspeed_decimals, 1.0);
   }
   if (options_.geopotential) {
     sep();

@@ -9,6 +9,8 @@
 #include "baroz/core/error.hpp"
 #include "baroz/core/time.hpp"
 #include "baroz/models/geopotential.hpp"
+#include "baroz/models/humidity.hpp"
+#include "baroz/models/profile_model.hpp"
 #include "baroz/models/standard_model.hpp"
 #include "baroz/output/rejects_writer.hpp"
 #include "baroz/pipeline/sample_feed.hpp"
@@ -25,14 +27,24 @@ double seconds(TimeNs a, TimeNs b) { return static_cast<double>(b - a) * 1e-9; }
 class HeightJob {
  public:
   HeightJob(ByteSource& input, ByteSink& output, const HeightOptions& options,
-            Diagnostics& diagnostics, RejectsWriter* rejects)
-      : input_(input), output_(output), options_(options), diag_(diagnostics), rejects_(rejects) {}
+            Diagnostics& diagnostics, RejectsWriter* rejects, FlightSeries* collect)
+      : input_(input),
+        output_(output),
+        options_(options),
+        diag_(diagnostics),
+        rejects_(rejects),
+        collect_(collect) {}
 
   HeightReport run();
 
  private:
   void choose_model();
+  void setup_profile_model();
+  bool feed_causal_profile(const Sample& sample);
   bool reject(const RowProblem& problem);
+  void output_row(const SeriesRow& row);
+  void write_out(SeriesRow& row);
+  void drain_smoother(bool finish);
   bool emit(Sample& sample, bool in_window);
   void hold(const Sample& sample);
   bool release_held();
@@ -44,6 +56,7 @@ class HeightJob {
   const HeightOptions& options_;
   Diagnostics& diag_;
   RejectsWriter* rejects_;
+  FlightSeries* collect_;
   HeightReport report_;
 
   std::unique_ptr<RecordReader> reader_;
@@ -71,37 +84,170 @@ class HeightJob {
   std::vector<Held> held_;
   std::string held_text_;
   RowProblem problem_;
+
+  // Profile model built causally from the samples as they arrive (a stream).
+  std::unique_ptr<ProfileBuilder> causal_builder_;
+  ProfileModel* profile_model_ = nullptr;
+  std::size_t causal_revision_ = static_cast<std::size_t>(-1);
+  std::size_t causal_used_ = 0;
+
+  // Delay line for --vspeed / --despike: rows wait until the smoother's
+  // window around them is complete. A ring whose strings keep their
+  // capacity, so there is no allocation per row once it has grown.
+  struct Pending {
+    SeriesRow row;
+    std::string time_text;
+  };
+  std::unique_ptr<FlightSmoother> smoother_;
+  std::vector<Pending> ring_;
+  std::size_t ring_head_ = 0;
+  std::size_t ring_count_ = 0;
 };
 
 void HeightJob::choose_model() {
   const bool has_temperature = report_.columns.has(Role::kTemperature);
+  const bool qnh = options_.reference.kind == ReferenceKind::kQnh;
   ModelKind kind = options_.model;
   if (kind == ModelKind::kAuto) {
-    kind = ModelKind::kStandard;
-    report_.model_reason =
-        has_temperature
-            ? "auto: the log has an air-temperature column, but the profile model is not in "
-              "this version; using standard"
-            : "auto: no air-temperature column; using standard";
+    if (qnh) {
+      kind = ModelKind::kStandard;
+      report_.model_reason = "auto: --qnh uses the standard atmosphere's altimeter relation";
+    } else if (!options_.profile.file.empty()) {
+      kind = ModelKind::kProfile;
+      report_.model_reason = "auto: a temperature profile was given with --profile";
+    } else if (has_temperature) {
+      kind = ModelKind::kProfile;
+      report_.model_reason = fmt::format("auto: the log has an air-temperature column '{}'",
+                                         report_.columns.name[static_cast<std::size_t>(
+                                             Role::kTemperature)]);
+    } else {
+      kind = ModelKind::kStandard;
+      report_.model_reason = "auto: no air-temperature column";
+    }
   } else {
     report_.model_reason = fmt::format("{}: chosen with --model", model_name(kind));
   }
-  if (kind == ModelKind::kProfile)
-    throw usage_error("--model profile: the profile model is not available in this version");
-  if (options_.reference.kind == ReferenceKind::kQnh && kind != ModelKind::kStandard)
+  if (qnh && kind != ModelKind::kStandard)
     throw usage_error(fmt::format(
         "--qnh uses the standard atmosphere's altimeter relation; it cannot be combined with "
         "--model {}",
         model_name(kind)));
   report_.model = kind;
+  report_.gravity = "standard";
   if (kind == ModelKind::kIsothermal) {
     if (options_.temperature_model == IsothermalTemperature::kMean && !has_temperature)
       throw input_error(fmt::format(
           "{}: --temperature-model mean needs an air-temperature column", input_.name()));
     model_ = std::make_unique<IsothermalModel>(options_.temperature_model);
+  } else if (kind == ModelKind::kProfile) {
+    setup_profile_model();
   } else {
     model_ = std::make_unique<StandardModel>();
   }
+  if (options_.latitude_deg && kind != ModelKind::kProfile)
+    diag_.note(input_.name(),
+               fmt::format("--latitude applies to the profile model; the {} model keeps the "
+                           "1976 standard's gravity (g0, r0)",
+                           model_name(kind)));
+}
+
+void HeightJob::setup_profile_model() {
+  const std::string& src = input_.name();
+  const ProfileSettings& ps = options_.profile;
+  std::optional<ProfileBuild> build;
+  if (!ps.file.empty()) {
+    std::unique_ptr<ByteSource> table = open_file_source(ps.file);
+    build = read_profile_table(*table, ReaderOptions{}, options_.validation, ps.saturation);
+  } else {
+    if (!report_.columns.has(Role::kTemperature))
+      throw input_error(fmt::format(
+          "{}: the profile model needs an air-temperature column or --profile FILE", src));
+    std::unique_ptr<ByteSource> second =
+        options_.series.line_buffered ? nullptr : input_.reopen();
+    if (second) {
+      build = profile_from_log(*second, options_.reader, options_.columns,
+                               options_.decimal_comma, options_.validation, ps);
+    }
+  }
+
+  GravityFrame frame = GravityFrame::standard();
+  if (options_.latitude_deg) {
+    frame = GravityFrame::wgs84(*options_.latitude_deg);
+    report_.latitude_source = "option";
+  } else if (build && !std::isnan(build->first_latitude_deg) &&
+             report_.columns.has(Role::kLat)) {
+    frame = GravityFrame::wgs84(build->first_latitude_deg);
+    report_.latitude_source = "column";
+  } else if (!build && report_.columns.has(Role::kLat)) {
+    diag_.note(src, "the input is a stream: its latitude column is not used for gravity; "
+                    "give --latitude for WGS 84 gravity");
+  }
+  if (!frame.is_standard()) {
+    report_.gravity = "wgs84";
+    report_.latitude_deg = frame.latitude_deg();
+    diag_.note(src, fmt::format("gravity: WGS 84 normal gravity at {:.4f} deg ({}): g = {:.6f} "
+                                "m/s^2, effective radius {:.0f} m",
+                                frame.latitude_deg(),
+                                report_.latitude_source == "option" ? "--latitude"
+                                                                    : "first latitude of the log",
+                                frame.surface_gravity(), frame.radius_m()));
+  }
+
+  if (build) {
+    const TemperatureProfile& prof = *build->profile;
+    diag_.note(src, fmt::format("profile from {}: {} layers from {} samples, {:.2f} to {:.2f} "
+                                "hPa; {}",
+                                build->source, build->layers, build->samples,
+                                prof.covered_bottom_pa() / 100.0, prof.covered_top_pa() / 100.0,
+                                build->humidity
+                                    ? "virtual temperature from the humidity column"
+                                    : "no humidity: dry air"));
+    auto model = std::make_unique<ProfileModel>(prof, frame);
+    profile_model_ = model.get();
+    model_ = std::move(model);
+    report_.profile = std::move(build);
+    report_.profile->profile.reset();  // the report keeps the description only
+  } else {
+    // A stream: the profile grows from the samples as they arrive.
+    causal_builder_ = std::make_unique<ProfileBuilder>(ps.builder);
+    report_.causal_profile = true;
+    ProfileBuild desc;
+    desc.source = fmt::format("log {} (causal)", profile_leg_name(ps.builder.leg));
+    report_.profile = desc;
+    diag_.note(src, "the input is a stream: the temperature profile is built causally from the "
+                    "samples that have arrived, so early rows use a shorter profile (read a "
+                    "file for a profile from the whole flight)");
+    auto model = std::make_unique<ProfileModel>(
+        TemperatureProfile({ProfileNode{constants::kP0, constants::kT0, kMissing}}), frame);
+    profile_model_ = model.get();
+    model_ = std::move(model);
+  }
+}
+
+bool HeightJob::feed_causal_profile(const Sample& s) {
+  double tv = kMissing;
+  if (!std::isnan(s.temperature_k) && !std::isnan(s.humidity_pct)) {
+    tv = virtual_temperature_from_rh_k(s.temperature_k, s.humidity_pct, s.pressure_pa,
+                                       options_.profile.saturation);
+    report_.profile->humidity = true;
+  }
+  causal_builder_->add(s.pressure_pa, s.temperature_k, tv);
+  const std::size_t used = causal_builder_->samples_used();
+  if (used == 0) return false;
+  // Rebuild when a new layer opens (the builder's revision), and otherwise
+  // on a geometric schedule (every 25 % more samples, so that the medians of
+  // a long hover are refreshed): a long stream costs O(layers + log n)
+  // rebuilds, not one per row.
+  const std::size_t revision = causal_builder_->revision();
+  if (revision != causal_revision_ ||
+      used >= causal_used_ + std::max<std::size_t>(1, causal_used_ / 4)) {
+    profile_model_->set_profile(causal_builder_->build());
+    causal_revision_ = revision;
+    causal_used_ = used;
+    report_.profile->samples = used;
+    report_.profile->layers = causal_builder_->layers();
+  }
+  return true;
 }
 
 bool HeightJob::reject(const RowProblem& problem) {
@@ -123,6 +269,7 @@ void HeightJob::start_writer(bool time_is_number) {
   so.altitude = options_.reference.kind == ReferenceKind::kQnh ||
                 options_.reference.elevation_m.has_value();
   so.gnss_alt = report_.columns.has(Role::kGnssAlt);
+  so.vspeed = options_.vspeed;
   writer_ = std::make_unique<SeriesWriter>(output_, so, time_is_number);
   report_.output_columns = writer_->columns();
   writer_->write_header();
@@ -150,14 +297,18 @@ bool HeightJob::emit(Sample& s, bool in_window) {
         e.dh_dtmodel -= altitude_ref_.dh_dtmodel;
       }
     }
+  } else if (causal_builder_ && !feed_causal_profile(s)) {
+    e.valid = false;
+    e.reason = "no temperature sample has arrived yet to build the profile from";
   } else {
     e = model_->evaluate(s.pressure_pa, s.temperature_k, reference_.point);
     if (e.valid && !std::isnan(elevation_m_)) altitude = elevation_m_ + e.height_m;
   }
   if (!e.valid) {
-    problem_.reason = std::isnan(s.temperature_k) && model_->needs_sample_temperature()
-                          ? RejectReason::kNoTemperature
-                          : RejectReason::kOutsideModel;
+    problem_.reason =
+        std::isnan(s.temperature_k) && (model_->needs_sample_temperature() || causal_builder_)
+            ? RejectReason::kNoTemperature
+            : RejectReason::kOutsideModel;
     problem_.line = s.line;
     problem_.record = s.record;
     problem_.column = report_.columns.name[static_cast<std::size_t>(
@@ -169,7 +320,10 @@ bool HeightJob::emit(Sample& s, bool in_window) {
     problem_.raw = s.raw;
     return reject(problem_);
   }
-  if (e.extrapolated) s.flags |= kFlagExtrapolated;
+  if (e.extrapolated) {
+    s.flags |= kFlagExtrapolated;
+    ++report_.extrapolated_rows;
+  }
   const HeightSigma sigma = budget_->evaluate(e);
   const double half = budget_->coverage_factor() * sigma.total_m;
 
@@ -194,9 +348,63 @@ bool HeightJob::emit(Sample& s, bool in_window) {
   row.geopotential_m = e.geopotential_m;
   row.gnss_alt_m = s.gnss_alt_m;
   row.flags = s.flags;
+  output_row(row);
+  return true;
+}
+
+void HeightJob::output_row(const SeriesRow& row) {
+  if (!smoother_) {
+    SeriesRow r = row;
+    write_out(r);
+    return;
+  }
+  if (ring_count_ == ring_.size()) {
+    // Grow the ring, keeping the order (rare: only while the window fills).
+    std::vector<Pending> bigger(std::max<std::size_t>(64, ring_.size() * 2));
+    for (std::size_t i = 0; i < ring_count_; ++i)
+      bigger[i] = std::move(ring_[(ring_head_ + i) % ring_.size()]);
+    ring_ = std::move(bigger);
+    ring_head_ = 0;
+  }
+  Pending& p = ring_[(ring_head_ + ring_count_) % ring_.size()];
+  ++ring_count_;
+  p.time_text.assign(row.time_text);
+  p.row = row;
+  smoother_->push(static_cast<double>(row.elapsed_ns) * 1e-9, row.height_m);
+  drain_smoother(false);
+}
+
+void HeightJob::drain_smoother(bool finish) {
+  if (!smoother_) return;
+  if (finish) smoother_->finish();
+  SmoothedRow done;
+  while (smoother_->pop(done)) {
+    Pending& p = ring_[ring_head_];
+    ring_head_ = (ring_head_ + 1) % ring_.size();
+    --ring_count_;
+    SeriesRow& r = p.row;
+    r.time_text = p.time_text;
+    if (options_.despike && done.spike) r.flags |= kFlagSpike;
+    if (options_.vspeed) r.vspeed_mps = done.vspeed_mps;
+    write_out(r);
+  }
+}
+
+void HeightJob::write_out(SeriesRow& row) {
+  if (row.flags & kFlagSpike) ++report_.spike_rows;
   writer_->write_row(row);
   ++report_.rows_written;
-  return true;
+  if (collect_) {
+    FlightPoint pt;
+    pt.time_s = static_cast<double>(row.elapsed_ns) * 1e-9;
+    pt.height_m = static_cast<float>(row.height_m);
+    pt.low_m = static_cast<float>(row.height_low_m);
+    pt.high_m = static_cast<float>(row.height_high_m);
+    pt.temperature_c = static_cast<float>(row.temperature_k - constants::kZeroCelsius);
+    pt.vspeed_mps = static_cast<float>(row.vspeed_mps);
+    pt.flags = row.flags;
+    collect_->points.push_back(pt);
+  }
 }
 
 void HeightJob::hold(const Sample& s) {
@@ -229,6 +437,9 @@ bool HeightJob::release_held() {
 void HeightJob::resolve_reference(bool end_of_input) {
   reference_ = resolver_->resolve(end_of_input, input_.name());
   have_reference_ = true;
+  if (profile_model_ && !profile_model_->frame().is_standard() && !std::isnan(elevation_m_))
+    reference_.point.datum_geopotential_m =
+        profile_model_->frame().geopotential_from_geometric(elevation_m_);
   const std::string& src = input_.name();
   for (const auto& n : reference_.notes) diag_.note(src, n);
   if (reference_.window) {
@@ -281,6 +492,8 @@ HeightReport HeightJob::run() {
   choose_model();
   diag_.note(input_.name(), fmt::format("model {} ({})", model_name(report_.model),
                                         report_.model_reason));
+  if (options_.vspeed || options_.despike)
+    smoother_ = std::make_unique<FlightSmoother>(options_.smoothing);
   budget_ = std::make_unique<ErrorBudget>(options_.budget);
   report_.coverage_factor = budget_->coverage_factor();
   elevation_m_ = options_.reference.elevation_m ? *options_.reference.elevation_m : kMissing;
@@ -353,7 +566,16 @@ HeightReport HeightJob::run() {
   report_.time_backwards = stats.backwards;
   report_.time_duplicates = stats.duplicates;
   if (!writer_started) start_writer(true);
+  drain_smoother(true);
   writer_->flush();
+  if (collect_) {
+    collect_->source = input_.name();
+    collect_->absolute_time = report_.absolute_time;
+    collect_->start_time_ns = report_.first_time_ns;
+    collect_->elevation_m = elevation_m_;
+    collect_->model = std::string(model_name(report_.model));
+    collect_->confidence = options_.budget.confidence;
+  }
   // Hash the whole input, also when --strict stopped early.
   if (input_.hashing()) {
     char drain[1 << 16];
@@ -369,8 +591,9 @@ HeightReport HeightJob::run() {
 }  // namespace
 
 HeightReport run_height_job(ByteSource& input, ByteSink& output, const HeightOptions& options,
-                            Diagnostics& diagnostics, RejectsWriter* rejects) {
-  HeightJob job(input, output, options, diagnostics, rejects);
+                            Diagnostics& diagnostics, RejectsWriter* rejects,
+                            FlightSeries* collect) {
+  HeightJob job(input, output, options, diagnostics, rejects, collect);
   return job.run();
 }
 

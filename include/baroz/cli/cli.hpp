@@ -2,6 +2,8 @@
 // drive the whole CLI in-process through the same function.
 #pragma once
 
+#include "baroz/core/caution.hpp"
+
 #include <istream>
 #include <ostream>
 #include <span>
@@ -19,7 +21,7 @@ int run(std::span<const std::string_view> args, std::istream& in, std::ostream& 
         std::ostream& err);
 
 /// The caution shown in --help, the README and the plot footer (product
-/// specification, "Cautions").
-extern const std::string_view kCaution;
+/// specification, "Cautions"); defined in the library (core/caution.hpp).
+using baroz::kCaution;
 
 }  // namespace baroz::cli

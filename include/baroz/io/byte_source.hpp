@@ -29,6 +29,11 @@ class ByteSource {
   /// Whether reading can never wait for data to arrive (a regular file or a
   /// string), so it may be read ahead on another thread.
   virtual bool is_regular_file() const { return false; }
+  /// A second, independent reader of the same bytes from the start (for a
+  /// model that needs a first pass over the whole log, e.g. a temperature
+  /// profile); nullptr when the input cannot be read twice (a pipe). The new
+  /// source is not hashed and must not outlive this one.
+  virtual std::unique_ptr<ByteSource> reopen() const { return nullptr; }
   /// Name used in messages: the path as given, or "<stdin>".
   const std::string& name() const { return name_; }
   std::uint64_t bytes_read() const { return bytes_; }

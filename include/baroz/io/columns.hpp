@@ -61,6 +61,9 @@ struct ColumnOptions {
   std::optional<TemperatureUnit> temperature_unit;
   std::optional<TimeUnit> time_unit;
   int tz_offset_s = 0;
+  /// A table without time (a --profile FILE of pressure and temperature)
+  /// sets this false; samples then have time 0.
+  bool require_time = true;
 };
 
 /// Resolves roles and units for a header. Throws baroz::Error: usage for an

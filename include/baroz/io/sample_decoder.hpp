@@ -36,6 +36,8 @@ class SampleDecoder {
   bool fail(RowProblem& problem, const Record& record, RejectReason reason, Role role,
             std::string message) const;
   bool parse_time(std::string_view text, TimeNs& out);
+  bool decode_time(const Record& record, std::string_view time_text, Sample& sample,
+                   RowProblem& problem);
 
   ColumnMap map_;
   bool decimal_comma_ = false;

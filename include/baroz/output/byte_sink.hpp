@@ -23,5 +23,7 @@ std::unique_ptr<ByteSink> make_ostream_sink(std::ostream& out, std::string name)
 /// Writes to `path` through a temporary file renamed onto it at commit();
 /// without commit() (an error, --strict) the target is left untouched.
 std::unique_ptr<ByteSink> make_atomic_file_sink(const std::string& path);
+/// Discards everything (a run kept only for its summary or plot).
+std::unique_ptr<ByteSink> make_null_sink();
 
 }  // namespace baroz

@@ -23,6 +23,8 @@ struct SeriesOptions {
   int temperature_decimals = 3;  ///< 0.001 degC
   int elapsed_decimals = 3;      ///< 0.001 s
   bool altitude = false;         ///< write altitude_m (height above MSL)
+  bool vspeed = false;           ///< write vspeed_mps
+  int vspeed_decimals = 3;       ///< 0.001 m/s
   bool geopotential = false;     ///< write geopotential_height_m
   bool gnss_alt = false;         ///< write gnss_alt_m
   bool flags = true;             ///< write flags
@@ -47,6 +49,7 @@ struct SeriesRow {
   double height_low_m = kMissing;
   double height_high_m = kMissing;
   double altitude_m = kMissing;
+  double vspeed_mps = kMissing;
   double geopotential_m = kMissing;
   double gnss_alt_m = kMissing;
   std::uint32_t flags = 0;

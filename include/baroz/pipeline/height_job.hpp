@@ -11,13 +11,17 @@
 #include <string>
 #include <vector>
 
+#include "baroz/analysis/flight_series.hpp"
+#include "baroz/analysis/flight_smoother.hpp"
 #include "baroz/io/byte_source.hpp"
 #include "baroz/io/columns.hpp"
 #include "baroz/io/record.hpp"
 #include "baroz/models/height_model.hpp"
 #include "baroz/models/isothermal_model.hpp"
+#include "baroz/models/normal_gravity.hpp"
 #include "baroz/output/series_writer.hpp"
 #include "baroz/pipeline/diagnostics.hpp"
+#include "baroz/pipeline/profile_source.hpp"
 #include "baroz/reference/reference.hpp"
 #include "baroz/uncertainty/error_budget.hpp"
 #include "baroz/validation/validator.hpp"
@@ -34,7 +38,14 @@ struct HeightOptions {
   ReferenceOptions reference;
   ModelKind model = ModelKind::kAuto;
   IsothermalTemperature temperature_model = IsothermalTemperature::kReference;
+  ProfileSettings profile;                 ///< the profile model's profile
+  std::optional<double> latitude_deg;      ///< --latitude: WGS 84 gravity at this latitude
   ErrorBudgetOptions budget;
+  /// Analysis on the written rows (a bounded delay line in the job):
+  /// vspeed adds vspeed_mps, despike sets the spike flag.
+  bool vspeed = false;
+  bool despike = false;
+  SmoothingOptions smoothing;
   SeriesOptions series;      ///< altitude and gnss_alt are decided by the job
   bool strict = false;
 };
@@ -54,6 +65,13 @@ struct HeightReport {
   bool stopped_by_strict = false;
   ModelKind model = ModelKind::kStandard;
   std::string model_reason;
+  std::optional<ProfileBuild> profile;     ///< profile model: where its profile came from
+  bool causal_profile = false;             ///< profile built from the samples as they arrived
+  std::string gravity;                     ///< "standard" or "wgs84"
+  double latitude_deg = kMissing;          ///< latitude of the WGS 84 frame
+  std::string latitude_source;             ///< "option" or "column"
+  std::uint64_t extrapolated_rows = 0;     ///< rows flagged extrapolated
+  std::uint64_t spike_rows = 0;            ///< rows flagged spike
   std::optional<Reference> reference;
   double coverage_factor = 0.0;
   TimeNs first_time_ns = 0;
@@ -69,7 +87,11 @@ struct HeightReport {
 /// Row problems go to `diagnostics` (and `rejects` when given). Setup
 /// problems throw baroz::Error. The caller decides the exit status from the
 /// report (no usable rows, --strict).
+/// `collect`: when given, every written row is also appended to it (for
+/// the summary and the plot), with vspeed and spike flags when the options
+/// ask for them.
 HeightReport run_height_job(ByteSource& input, ByteSink& output, const HeightOptions& options,
-                            Diagnostics& diagnostics, RejectsWriter* rejects);
+                            Diagnostics& diagnostics, RejectsWriter* rejects,
+                            FlightSeries* collect = nullptr);
 
 }  // namespace baroz

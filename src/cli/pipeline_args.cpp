@@ -1,0 +1,211 @@
+#include "pipeline_args.hpp"
+
+#include <cmath>
+
+#include <fmt/format.h>
+
+#include "baroz/core/error.hpp"
+#include "baroz/core/quantity.hpp"
+
+namespace baroz::cli {
+
+HeightOptions resolve_pipeline_options(const PipelineArgs& a) {
+  HeightOptions o;
+  o.reader = reader_options(a.reader);
+  o.columns = column_options(a.reader);
+  o.decimal_comma = a.reader.decimal_comma;
+
+  auto model = parse_model_name(a.model);
+  if (!model)
+    throw usage_error(fmt::format(
+        "--model: \"{}\" is not a model (auto, isothermal, standard, profile)", a.model));
+  o.model = *model;
+  if (a.temperature_model == "mean") o.temperature_model = IsothermalTemperature::kMean;
+  else o.temperature_model = IsothermalTemperature::kReference;
+
+  if (!a.profile_file.empty()) {
+    if (o.model != ModelKind::kProfile && o.model != ModelKind::kAuto)
+      throw usage_error(fmt::format("--profile applies to --model profile, not --model {}",
+                                    model_name(o.model)));
+    o.profile.file = a.profile_file;
+  }
+  if (auto leg = parse_profile_leg(a.profile_leg)) o.profile.builder.leg = *leg;
+  else
+    throw usage_error(fmt::format("--profile-leg: \"{}\" is not ascent, descent or all",
+                                  a.profile_leg));
+  if (!a.profile_layer.empty()) {
+    o.profile.builder.layer_m = parse_length_option(a.profile_layer, "--profile-layer");
+    if (!(o.profile.builder.layer_m >= ProfileBuilder::kMinLayerM &&
+          o.profile.builder.layer_m <= ProfileBuilder::kMaxLayerM))
+      throw usage_error("--profile-layer: the layer thickness must be 1 m to 1 km");
+  }
+  o.profile.saturation =
+      a.saturation == "ice" ? SaturationPhase::kIceBelowZero : SaturationPhase::kWater;
+  if (!a.latitude.empty()) {
+    const double lat = parse_number_option(a.latitude, "--latitude");
+    if (!(lat >= -90.0 && lat <= 90.0))
+      throw usage_error(fmt::format("--latitude: {} is outside -90 to 90 degrees", a.latitude));
+    o.latitude_deg = lat;
+  }
+
+  ReferenceOptions& r = o.reference;
+  if (!a.ref_pressure.empty()) {
+    r.kind = ReferenceKind::kPressure;
+    r.pressure_pa = parse_pressure_option(a.ref_pressure, "--ref-pressure");
+  } else if (!a.qnh.empty()) {
+    r.kind = ReferenceKind::kQnh;
+    r.pressure_pa = parse_pressure_option(a.qnh, "--qnh");
+  } else {
+    r.kind = ReferenceKind::kWindow;
+  }
+  if (!std::isnan(r.pressure_pa) && !(r.pressure_pa > 0.0))
+    throw usage_error("the reference pressure must be positive");
+  if (!a.ref_window.empty() && a.ref_window != "auto") {
+    r.window_s = parse_duration_option(a.ref_window, "--ref-window");
+    if (!(*r.window_s > 0.0)) throw usage_error("--ref-window: the duration must be positive");
+  }
+  if (!a.ref_temperature.empty()) {
+    r.temperature_k = parse_temperature_option(a.ref_temperature, "--ref-temperature");
+    if (!(*r.temperature_k > 0.0))
+      throw usage_error("--ref-temperature: the temperature must be above 0 K");
+  }
+  if (!a.elevation.empty()) r.elevation_m = parse_length_option(a.elevation, "--elevation");
+  if (r.kind == ReferenceKind::kQnh && o.model == ModelKind::kIsothermal)
+    throw usage_error(
+        "--qnh uses the standard atmosphere's altimeter relation; it cannot be combined with "
+        "--model isothermal");
+  if (o.temperature_model == IsothermalTemperature::kMean && o.model != ModelKind::kIsothermal)
+    throw usage_error("--temperature-model applies to --model isothermal only");
+
+  ErrorBudgetOptions& b = o.budget;
+  auto sigma = [](const std::string& text, const char* option, double (*parse)(std::string_view, std::string_view),
+                  double& value) {
+    if (text.empty()) return;
+    value = parse(text, option);
+    if (!(value >= 0.0)) throw usage_error(fmt::format("{}: a sigma cannot be negative", option));
+  };
+  sigma(a.sigma_p, "--sigma-p", parse_pressure_option, b.sigma_p_pa);
+  sigma(a.sigma_ref, "--sigma-ref", parse_pressure_option, b.sigma_ref_pa);
+  sigma(a.sigma_t, "--sigma-t", parse_temperature_difference_option, b.sigma_t_k);
+  sigma(a.sigma_t_model, "--sigma-t-model", parse_temperature_difference_option,
+        b.sigma_t_model_k);
+  if (!a.confidence.empty()) {
+    b.confidence = parse_number_option(a.confidence, "--confidence");
+    if (!(b.confidence > 0.0 && b.confidence < 1.0))
+      throw usage_error(fmt::format("--confidence: {} is not between 0 and 1", a.confidence));
+  }
+
+  if (!a.p_range.empty()) {
+    auto colon = a.p_range.find(':');
+    if (colon == std::string::npos)
+      throw usage_error(fmt::format("--p-range: \"{}\" is not LOW:HIGH", a.p_range));
+    const double lo = parse_pressure_option(a.p_range.substr(0, colon), "--p-range");
+    const double hi = parse_pressure_option(a.p_range.substr(colon + 1), "--p-range");
+    if (!(lo >= 0.0 && hi > lo))
+      throw usage_error(fmt::format("--p-range: \"{}\" needs 0 <= LOW < HIGH", a.p_range));
+    o.validation.p_min_pa = lo;
+    o.validation.p_max_pa = hi;
+    o.validation.p_min_inclusive = lo > 0.0;
+  }
+
+  if (!a.spike_window.empty()) {
+    o.smoothing.spike_window_s = parse_duration_option(a.spike_window, "--spike-window");
+    if (!(o.smoothing.spike_window_s > 0.0))
+      throw usage_error("--spike-window: the duration must be positive");
+    o.smoothing.spike_min_rows = 0;  // the window as given, not widened to a row count
+  }
+  if (!a.vspeed_window.empty()) {
+    o.smoothing.vspeed_window_s = parse_duration_option(a.vspeed_window, "--vspeed-window");
+    if (!(o.smoothing.vspeed_window_s > 0.0))
+      throw usage_error("--vspeed-window: the duration must be positive");
+    o.smoothing.vspeed_min_rows = 0;
+  }
+  o.strict = a.strict;
+  return o;
+}
+
+void add_pipeline_options(CLI::App& app, PipelineArgs& a) {
+  add_reader_options(app, a.reader);
+  app.add_option("-m,--model", a.model,
+                  "Height model: isothermal, standard, profile, or auto (default): profile when "
+                 "the log has an air-temperature column, else standard")
+      ->type_name("MODEL")->group("Model");
+  app.add_option("--temperature-model", a.temperature_model,
+                  "Isothermal model temperature: reference (ground, default) or mean (of "
+                  "ground and sample)")
+      ->check(CLI::IsMember({"reference", "mean"}))->type_name("reference|mean")->group("Model");
+  app.add_option("--profile", a.profile_file,
+                  "profile model: temperature profile from a table of pressure and "
+                  "temperature (optional humidity) instead of the log's own ascent")
+      ->type_name("FILE")->group("Model");
+  app.add_option("--profile-leg", a.profile_leg,
+                  "profile model: build the profile from the ascent (default), the descent "
+                  "or all samples")
+      ->check(CLI::IsMember({"ascent", "descent", "all"}))->type_name("LEG")->group("Model");
+  app.add_option("--profile-layer", a.profile_layer,
+                  "profile model: layer thickness of the per-layer median (default 50 m)")
+      ->type_name("H")->group("Model");
+  app.add_option("--saturation", a.saturation,
+                  "Saturation vapour pressure for the virtual temperature below 0 C: water "
+                  "(default) or ice (WMO-No. 8, Annex 4.B)")
+      ->check(CLI::IsMember({"water", "ice"}))->type_name("water|ice")->group("Model");
+  app.add_option("--latitude", a.latitude,
+                  "Latitude (deg) for WGS 84 normal gravity and the latitude-dependent "
+                  "geopotential-to-geometric conversion (default: standard gravity, or the "
+                  "log's latitude column)")
+      ->type_name("DEG")->group("Model");
+
+  auto* rp = app.add_option("--ref-pressure", a.ref_pressure,
+                             "Known ground pressure (QFE), e.g. 1013.25 or 101325Pa")
+                 ->type_name("P")->group("Reference");
+  auto* qnh = app.add_option("--qnh", a.qnh,
+                              "Altimeter setting: altitude_m by the standard atmosphere with "
+                              "sea-level pressure QNH")
+                  ->type_name("P")->group("Reference");
+  app.add_option("--ref-window", a.ref_window,
+                             "Reference from the mean of the first DUR (e.g. 90s, 2min), or "
+                             "auto: the detected stationary pre-launch segment (default)")
+                 ->type_name("DUR|auto")->group("Reference");
+  rp->excludes(qnh);
+  // --ref-window may go with --qnh (the height datum) or --ref-pressure (T_ref).
+  app.add_option("--elevation", a.elevation,
+                  "Site elevation above MSL (e.g. 412m, 1350ft): adds altitude_m")
+      ->type_name("H")->group("Reference");
+  app.add_option("--ref-temperature", a.ref_temperature,
+                  "Reference temperature for isothermal (bare K, or 15C); default: mean of "
+                  "the reference window, else 288.15 K")
+      ->type_name("T")->group("Reference");
+
+  app.add_option("--sigma-p", a.sigma_p, "1-sigma noise of each pressure sample (default 0.05 hPa)")
+      ->type_name("P")->group("Uncertainty");
+  app.add_option("--sigma-ref", a.sigma_ref,
+                  "1-sigma error of the reference pressure (default 0.1 hPa)")
+      ->type_name("P")->group("Uncertainty");
+  app.add_option("--sigma-t", a.sigma_t,
+                  "1-sigma error of the temperature the model uses (default 0.5 K)")
+      ->type_name("K")->group("Uncertainty");
+  app.add_option("--sigma-t-model", a.sigma_t_model,
+                  "standard model: 1-sigma deviation of the real column temperature from the "
+                  "standard one (default 5 K)")
+      ->type_name("K")->group("Uncertainty");
+  app.add_option("--confidence", a.confidence,
+                  "Two-sided confidence of the band (default 0.95)")
+      ->type_name("P")->group("Uncertainty");
+
+  app.add_option("--p-range", a.p_range,
+                  "Accepted pressure range LOW:HIGH (default 0:1500 hPa, physical "
+                  "plausibility)")
+      ->type_name("LOW:HIGH")->group("Validation");
+  app.add_option("--spike-window", a.spike_window,
+                 "Analysis: time window of the spike filter (default 2 s, widened to 40 "
+                 "sample intervals on slow logs; a value given is used as is)")
+      ->type_name("DUR")->group("Analysis");
+  app.add_option("--vspeed-window", a.vspeed_window,
+                 "Analysis: time window of the vertical-speed fit (default 2 s, widened to 20 "
+                 "sample intervals on slow logs; a value given is used as is)")
+      ->type_name("DUR")->group("Analysis");
+  app.add_flag("--strict", a.strict, "Stop at the first rejected row (exit status 3)")
+      ->group("Validation");
+}
+
+}  // namespace baroz::cli
