@@ -210,3 +210,27 @@ TEST_CASE("demo balloon: the summary finds launch, burst and landing of the trut
         Approx(num(truth, "mean_descent_rate_mps")).margin(0.1));
   CHECK(std::string(doc["apogee_kind"].get_string().value()) == "burst");
 }
+
+TEST_CASE("demo drone hop: the summary finds take-off, the top and the landing",
+          "[demo][analysis]") {
+  // Truth: demo_data/truth/events.json (hollin_drone_hop). The drone
+  // accelerates at 1 m/s^2, so the climb clears the noise (0.04 hPa, ~0.3 m)
+  // about a second after it starts: tolerance 2 s for the times. The top
+  // is a 60 s hover at 120 m; the maximum of noisy hover rows lies about
+  // 3 sigma above it: tolerance 1.5 m.
+  auto r = run_cli({"summary", source_path("demo_data/hollin_drone_hop.ndjson")});
+  REQUIRE(r.status == 0);
+  simdjson::dom::parser parser;
+  simdjson::dom::element doc = parser.parse(r.out);
+  simdjson::dom::parser truth_parser;
+  simdjson::dom::element truth =
+      truth_parser.load(source_path("demo_data/truth/events.json"))["hollin_drone_hop"];
+  auto num = [](simdjson::dom::element e, const char* k) { return e[k].get_double().value(); };
+  CHECK(num(doc, "launch_elapsed_s") == Approx(num(truth, "launch_elapsed_s")).margin(2.0));
+  CHECK(num(doc, "landing_elapsed_s") == Approx(num(truth, "landing_elapsed_s")).margin(2.0));
+  CHECK(num(doc, "max_height_m") == Approx(num(truth, "max_height_m")).margin(1.5));
+  const double apogee = num(doc, "apogee_elapsed_s");
+  CHECK(apogee >= num(truth, "apogee_reached_elapsed_s") - 2.0);
+  CHECK(apogee <= num(truth, "apogee_left_elapsed_s") + 2.0);
+  CHECK(std::string(doc["apogee_kind"].get_string().value()) == "apogee");  // no burst
+}

@@ -225,3 +225,19 @@ TEST_CASE("a stream builds the profile causally and says so", "[profile][cli]") 
   CHECK(r.err.find("the temperature profile is built causally") != std::string::npos);
   CHECK(split_lines(r.out).size() == 5);
 }
+
+TEST_CASE("profile errors name the file and conflicting options are refused", "[profile][cli]") {
+  TempDir d;
+  // A log that only climbs has no descent after its top.
+  auto flat = d.file("up.csv", "time_s,pressure_hpa,temp_c\n0,1002,15\n1,1001,15\n2,1000,15\n");
+  auto r = run_cli({"height", "--profile-leg", "descent", "--ref-pressure", "1000", flat});
+  CHECK(r.status == 2);
+  CHECK(r.err.find(flat + ": profile leg 'descent' has no usable temperature sample") !=
+        std::string::npos);
+  // --qnh is the standard atmosphere's altimeter relation (product spec).
+  auto table = d.file("t.csv", "pressure_hpa,temp_c\n1000,15\n500,-20\n");
+  r = run_cli({"height", "--profile", table, "--qnh", "1013.25", flat});
+  CHECK(r.status == 1);
+  CHECK(r.err.find("--qnh uses the standard atmosphere's altimeter relation") !=
+        std::string::npos);
+}

@@ -679,7 +679,7 @@ def make_kestrel(std: HydrostaticColumn, col: HydrostaticColumn, w: Writer) -> d
             "humidity": "RH over water; e = RH/100 f(p) e_w(T), WMO-No. 8 Annex 4.B eq. 4.B.1 "
                         "and f(p); T_v = T / (1 - (e/p)(1 - eps))",
             "epsilon": round(EPSILON, 8),
-            "gravity": "g(z) = g0 (r0 / (r0 + z))^2, r0 = 6356766 m (standard frame, no latitude)",
+            "gravity": "WGS 84 normal gravity at the launch latitude, TR8350.2 eqs. 4-1 and 4-3 (MSL altitude taken as ellipsoidal height)",
             "tropopause_altitude_m": 12500.0,
             "tropopause_temperature_c": -58.0,
             "tropopause_pressure_pa": round(col.pressure(12500.0), 3),

@@ -127,6 +127,9 @@ void HeightJob::choose_model() {
   } else {
     report_.model_reason = fmt::format("{}: chosen with --model", model_name(kind));
   }
+  if (qnh && !options_.profile.file.empty())
+    throw usage_error("--profile goes with the profile model; --qnh uses the standard "
+                      "atmosphere's altimeter relation");
   if (qnh && kind != ModelKind::kStandard)
     throw usage_error(fmt::format(
         "--qnh uses the standard atmosphere's altimeter relation; it cannot be combined with "
@@ -180,6 +183,9 @@ void HeightJob::setup_profile_model() {
     report_.latitude_source = "column";
   } else if (!build && report_.columns.has(Role::kLat)) {
     diag_.note(src, "the input is a stream: its latitude column is not used for gravity; "
+                    "give --latitude for WGS 84 gravity");
+  } else if (build && !ps.file.empty() && report_.columns.has(Role::kLat)) {
+    diag_.note(src, "with --profile FILE the log's latitude column is not read for gravity; "
                     "give --latitude for WGS 84 gravity");
   }
   if (!frame.is_standard()) {
@@ -299,7 +305,10 @@ bool HeightJob::emit(Sample& s, bool in_window) {
     }
   } else if (causal_builder_ && !feed_causal_profile(s)) {
     e.valid = false;
-    e.reason = "no temperature sample has arrived yet to build the profile from";
+    e.reason = options_.profile.builder.leg == ProfileLeg::kDescent
+                   ? "the descent leg of the profile has no sample yet (it starts after the "
+                     "top; on a stream the rows before it cannot use it)"
+                   : "no temperature sample has arrived yet to build the profile from";
   } else {
     e = model_->evaluate(s.pressure_pa, s.temperature_k, reference_.point);
     if (e.valid && !std::isnan(elevation_m_)) altitude = elevation_m_ + e.height_m;

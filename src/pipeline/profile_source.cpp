@@ -96,7 +96,11 @@ ProfileBuild profile_from_log(ByteSource& input, const ReaderOptions& reader,
     }
     builder.add(s.pressure_pa, s.temperature_k, tv);
   }
-  out.profile.emplace(builder.build());
+  try {
+    out.profile.emplace(builder.build());
+  } catch (const Error& e) {
+    throw input_error(fmt::format("{}: {}", input.name(), e.what()));
+  }
   out.samples = builder.samples_used();
   out.layers = builder.layers();
   return out;

@@ -44,7 +44,7 @@ struct EventOptions {
   double launch_climb_m = 5.0;       ///< height gained above the pre-launch rest to call a launch [m], > 0
   double launch_sustain_s = 5.0;     ///< the climb must last this long [s], > 0
   double rest_speed_mps = 0.3;       ///< a rest's fitted trend must stay below this [m/s], > 0
-  double rest_min_s = 30.0;          ///< shortest pre-launch / post-landing rest [s], >= 0
+  double rest_min_s = 15.0;          ///< shortest pre-launch / post-landing rest [s], >= 0 (a drone may sit 15-20 s after landing)
   double float_min_s = 120.0;        ///< shortest float segment [s], > 0
   double float_speed_mps = 0.5;      ///< |vspeed| below this in the air counts as floating [m/s], > 0
   double burst_drop_mps = 8.0;       ///< descent faster than this within burst_window_s of the top = burst [m/s], > 0
