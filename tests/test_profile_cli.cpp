@@ -241,3 +241,21 @@ TEST_CASE("profile errors name the file and conflicting options are refused", "[
   CHECK(r.err.find("--qnh uses the standard atmosphere's altimeter relation") !=
         std::string::npos);
 }
+
+TEST_CASE("isothermal with the mean of ground and sample temperature", "[cli][isothermal]") {
+  // Product spec, "Height models": --temperature-model mean uses
+  // (T_ground + T_sample)/2 in h = (R* T / (g0 M0)) ln(p_ref / p).
+  // Source: hypsometric equation (Wallace & Hobbs 2006, eq. 3.29; numbering
+  // from memory) with the USSA76 constants R* = 8.31432, M0 = 28.9644e-3,
+  // g0 = 9.80665 (reference-values.md §1.1); geometric via USSA76 eq. 18.
+  TempDir d;
+  auto log = d.file("m.csv", "time_s,pressure_hpa,temp_c\n0,1013.25,15\n1,1013.25,15\n2,900,-5\n");
+  auto r = run_cli({"height", "--model", "isothermal", "--temperature-model", "mean",
+                    "--ref-pressure", "1013.25", "--ref-temperature", "15C", log});
+  REQUIRE(r.status == 0);
+  const double t_mean = (288.15 + 268.15) / 2.0;
+  const double dh = 8.31432 / (9.80665 * 28.9644e-3) * t_mean * std::log(1013.25 / 900.0);
+  const double r0 = 6356766.0;
+  const double z = r0 * dh / (r0 - dh);
+  CHECK(numbers(column(r.out, "height_m"))[2] == Approx(z).margin(0.002));
+}
