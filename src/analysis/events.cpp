@@ -9,6 +9,7 @@
 #include <utility>
 
 #include "baroz/core/error.hpp"
+#include "baroz/core/robust_statistics.hpp"
 
 namespace baroz {
 namespace {
@@ -227,13 +228,6 @@ FlightEvent event_at(const FlightSeries& series, std::size_t row) {
   return e;
 }
 
-double median_of(std::vector<double>& v) {
-  if (v.empty()) return kMissing;
-  const auto mid = v.begin() + static_cast<std::ptrdiff_t>(v.size() / 2);
-  std::nth_element(v.begin(), mid, v.end());
-  return *mid;
-}
-
 void check_options(const EventOptions& o) {
   auto positive = [](double v, const char* name) {
     if (!(v > 0.0) || !std::isfinite(v)) throw usage_error(fmt::format("event option {} must be positive", name));
@@ -310,7 +304,7 @@ FlightEvents detect_events(const FlightSeries& series, const EventOptions& o) {
     std::vector<double> dts;
     dts.reserve(m - 1);
     for (std::size_t k = 1; k < m; ++k) dts.push_back(t(k) - t(k - 1));
-    ev.sample_interval_s = median_of(dts);
+    ev.sample_interval_s = median_in_place(dts);
   }
   const double dt = ev.sample_interval_s;
   ev.gap_s = o.gap_s > 0 ? o.gap_s : std::max(10.0 * dt, 10.0);
@@ -340,7 +334,7 @@ FlightEvents detect_events(const FlightSeries& series, const EventOptions& o) {
       e.push_back(std::fabs(d2) / std::sqrt(1.0 + (1.0 + r) * (1.0 + r) + r * r));
     }
     // 1.4826 MAD estimates sigma for normal data (Hampel 1974).
-    ev.noise_sigma_m = e.empty() ? 0.0 : 1.4826 * median_of(e);
+    ev.noise_sigma_m = e.empty() ? 0.0 : kMadToSigma * median_in_place(e);
   }
   const double sigma = ev.noise_sigma_m;
   const double threshold = std::max(o.launch_climb_m, o.noise_multiple * sigma);

@@ -4,6 +4,7 @@
 #include <cmath>
 
 #include "baroz/core/error.hpp"
+#include "baroz/core/robust_statistics.hpp"
 
 namespace baroz {
 
@@ -11,10 +12,6 @@ namespace {
 
 constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
 
-/// Consistency constant of the MAD for the normal distribution:
-/// 1.4826 MAD estimates the standard deviation, 1.4826 = 1 / Phi^-1(3/4)
-/// (Hampel 1974; Pearson et al. 2016).
-constexpr double kMadToSigma = 1.4826;
 /// Positive intervals used for the nominal sampling interval.
 constexpr std::size_t kRateIntervals = 16;
 /// Fewer finite rows in a spike window: no decision (not a spike).
@@ -29,16 +26,6 @@ constexpr double kMinFitSpanFraction = 0.25;
 /// updates or when the window has moved this many widths from their origin.
 constexpr std::uint64_t kFitRecomputeUpdates = 4096;
 constexpr double kFitRecomputeWidths = 2.0;
-
-/// Median of v (non-empty); reorders v.
-double median_inplace(std::vector<double>& v) {
-  const auto mid = v.begin() + static_cast<std::ptrdiff_t>(v.size() / 2);
-  std::nth_element(v.begin(), mid, v.end());
-  const double upper = *mid;
-  if (v.size() % 2 == 1) return upper;
-  const double lower = *std::max_element(v.begin(), mid);
-  return lower + 0.5 * (upper - lower);
-}
 
 }  // namespace
 
@@ -63,7 +50,7 @@ FlightSmoother::FlightSmoother(const SmoothingOptions& options) : options_(optio
 void FlightSmoother::fix_windows() {
   if (windows_fixed_) return;
   windows_fixed_ = true;
-  nominal_interval_s_ = intervals_.empty() ? 0.0 : median_inplace(intervals_);
+  nominal_interval_s_ = intervals_.empty() ? 0.0 : median_in_place(intervals_);
   const auto widened = [this](double window_s, std::size_t min_rows) {
     if (min_rows < 2) return window_s;
     return std::max(window_s, static_cast<double>(min_rows - 1) * nominal_interval_s_);
@@ -197,7 +184,7 @@ void FlightSmoother::decide_spike(std::uint64_t c) {
     const double dt = scratch_t_[k + m] - scratch_t_[k];
     if (dt > 0.0) scratch_w_.push_back((scratch_h_[k + m] - scratch_h_[k]) / dt);
   }
-  const double slope = scratch_w_.empty() ? 0.0 : median_inplace(scratch_w_);
+  const double slope = scratch_w_.empty() ? 0.0 : median_in_place(scratch_w_);
 
   // Hampel identifier on the residuals from the local line (Pearson et al.
   // 2016: x_k is an outlier when |x_k - m_k| > t S_k, m_k the window median,
@@ -218,9 +205,9 @@ void FlightSmoother::decide_spike(std::uint64_t c) {
     }
     if (n_below <= (n - 1) / 2 && n_above <= (n - 1) / 2) return;
   }
-  const double med = median_inplace(scratch_w_);
+  const double med = median_in_place(scratch_w_);
   for (double& r : scratch_w_) r = std::fabs(r - med);
-  const double mad = median_inplace(scratch_w_);
+  const double mad = median_in_place(scratch_w_);
   const double limit =
       std::max(options_.spike_threshold * kMadToSigma * mad, options_.spike_floor_m);
   row.spike = std::fabs(centre_residual - med) > limit;

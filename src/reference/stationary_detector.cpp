@@ -3,6 +3,8 @@
 #include <algorithm>
 #include <cmath>
 
+#include "baroz/core/robust_statistics.hpp"
+
 namespace baroz {
 
 double StationaryDetector::baseline() const {
@@ -37,7 +39,7 @@ void StationaryDetector::update_noise() {
   std::nth_element(d.begin(), d.begin() + static_cast<std::ptrdiff_t>(d.size() / 2), d.end());
   // MAD of differences (their median is ~0): sigma_diff = 1.4826 MAD, and
   // differences of independent samples have sqrt(2) times the sample noise.
-  sigma_ = 1.4826 * d[d.size() / 2] / std::sqrt(2.0);
+  sigma_ = kMadToSigma * d[d.size() / 2] / std::sqrt(2.0);
 }
 
 bool StationaryDetector::feed(TimeNs t, double p) {
