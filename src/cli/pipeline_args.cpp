@@ -6,8 +6,74 @@
 
 #include "baroz/core/error.hpp"
 #include "baroz/core/quantity.hpp"
+#include "baroz/reference/checkpoint_fit.hpp"
 
 namespace baroz::cli {
+
+namespace {
+
+/// The base-station, drift, checkpoint and GNSS options, and which of them
+/// go together.
+void resolve_reference_manager_options(const PipelineArgs& a, HeightOptions& o) {
+  ReferenceOptions& r = o.reference;
+  const bool base = r.kind == ReferenceKind::kBase;
+  auto needs_base = [&](bool given, const char* option) {
+    if (given && !base) throw usage_error(fmt::format("{} goes with --ref-base FILE", option));
+  };
+  needs_base(!a.base_offset.empty(), "--base-offset");
+  needs_base(!a.base_elevation.empty(), "--base-elevation");
+  needs_base(a.no_tie, "--no-tie");
+  needs_base(!a.outside_base.empty(), "--outside-base");
+  if (base) {
+    if (a.base_offset == "auto") {
+      r.base.offset_auto = true;
+    } else if (!a.base_offset.empty()) {
+      r.base.offset_s = parse_duration_option(a.base_offset, "--base-offset");
+    }
+    if (!a.base_elevation.empty())
+      r.base.elevation_m = parse_length_option(a.base_elevation, "--base-elevation");
+    r.base.tie = !a.no_tie;
+    if (a.outside_base == "reject") r.base.outside = OutsideBasePolicy::kReject;
+  }
+
+  if (a.drift == "linear") {
+    if (r.kind != ReferenceKind::kWindow)
+      throw usage_error(fmt::format(
+          "--drift linear corrects the reference window's pressure; it cannot be combined with "
+          "{}",
+          base ? "--ref-base (the base station follows the drift itself)"
+               : r.kind == ReferenceKind::kQnh ? "--qnh" : "--ref-pressure"));
+    r.drift = DriftCorrection::kLinear;
+  } else if (!a.drift.empty() && a.drift != "none") {
+    throw usage_error(fmt::format("--drift: \"{}\" is not linear or none", a.drift));
+  }
+  if (!a.landing_height.empty()) {
+    if (r.drift != DriftCorrection::kLinear)
+      throw usage_error("--landing-height goes with --drift linear");
+    r.landing_height_m = parse_length_option(a.landing_height, "--landing-height");
+  }
+
+  if (!a.checkpoints.empty() && r.kind == ReferenceKind::kQnh)
+    throw usage_error("--checkpoint cannot be combined with --qnh (the altimeter relation "
+                      "fixes the reference)");
+  for (const auto& c : a.checkpoints)
+    r.checkpoints.push_back(parse_checkpoint(c, o.columns.tz_offset_s));
+
+  if (a.ref_gnss) {
+    if (r.kind == ReferenceKind::kQnh || r.elevation_m)
+      throw usage_error(fmt::format(
+          "--ref-gnss fits the launch point's altitude from GNSS; it cannot be combined with {}",
+          r.kind == ReferenceKind::kQnh ? "--qnh" : "--elevation (which gives it)"));
+    r.gnss_datum = true;
+  }
+  if (!a.gnss_below.empty()) {
+    if (!a.ref_gnss) throw usage_error("--gnss-below goes with --ref-gnss");
+    r.gnss_below_m = parse_length_option(a.gnss_below, "--gnss-below");
+    if (!(r.gnss_below_m > 0.0)) throw usage_error("--gnss-below: the height must be positive");
+  }
+}
+
+}  // namespace
 
 HeightOptions resolve_pipeline_options(const PipelineArgs& a) {
   HeightOptions o;
@@ -49,7 +115,13 @@ HeightOptions resolve_pipeline_options(const PipelineArgs& a) {
   }
 
   ReferenceOptions& r = o.reference;
-  if (!a.ref_pressure.empty()) {
+  if (!a.ref_base.empty()) {
+    if (!a.ref_pressure.empty() || !a.qnh.empty())
+      throw usage_error(fmt::format("--ref-base cannot be combined with {}",
+                                    a.qnh.empty() ? "--ref-pressure" : "--qnh"));
+    r.kind = ReferenceKind::kBase;
+    r.base.file = a.ref_base;
+  } else if (!a.ref_pressure.empty()) {
     r.kind = ReferenceKind::kPressure;
     r.pressure_pa = parse_pressure_option(a.ref_pressure, "--ref-pressure");
   } else if (!a.qnh.empty()) {
@@ -70,6 +142,7 @@ HeightOptions resolve_pipeline_options(const PipelineArgs& a) {
       throw usage_error("--ref-temperature: the temperature must be above 0 K");
   }
   if (!a.elevation.empty()) r.elevation_m = parse_length_option(a.elevation, "--elevation");
+  resolve_reference_manager_options(a, o);
   if (r.kind == ReferenceKind::kQnh && o.model == ModelKind::kIsothermal)
     throw usage_error(
         "--qnh uses the standard atmosphere's altimeter relation; it cannot be combined with "
@@ -89,6 +162,12 @@ HeightOptions resolve_pipeline_options(const PipelineArgs& a) {
   sigma(a.sigma_t, "--sigma-t", parse_temperature_difference_option, b.sigma_t_k);
   sigma(a.sigma_t_model, "--sigma-t-model", parse_temperature_difference_option,
         b.sigma_t_model_k);
+  if (!a.drift_sigma.empty()) {
+    // Bare hPa per hour (the pinned default unit), returned in Pa/s.
+    b.drift_sigma_pa_per_s = parse_drift_option(a.drift_sigma, "--drift-sigma");
+    if (!(b.drift_sigma_pa_per_s >= 0.0))
+      throw usage_error("--drift-sigma: a sigma cannot be negative");
+  }
   if (!a.confidence.empty()) {
     b.confidence = parse_number_option(a.confidence, "--confidence");
     if (!(b.confidence > 0.0 && b.confidence < 1.0))
@@ -176,6 +255,49 @@ void add_pipeline_options(CLI::App& app, PipelineArgs& a) {
                   "the reference window, else 288.15 K")
       ->type_name("T")->group("Reference");
 
+  auto* base = app.add_option("--ref-base", a.ref_base,
+                               "Reference from a ground base-station log (time, pressure, "
+                               "optional temperature; any columns and units), interpolated at "
+                               "each sample's time")
+                   ->type_name("FILE")->group("Reference");
+  base->excludes(rp)->excludes(qnh);
+  app.add_option("--base-offset", a.base_offset,
+                 "Seconds added to the base log's times to put them on the flight log's clock "
+                 "(default 0), or auto: estimated where both sensors rest together")
+      ->type_name("SECONDS|auto")->group("Reference");
+  app.add_option("--base-elevation", a.base_elevation,
+                 "Elevation of the base station, in the datum of --elevation (without it: "
+                 "height above the launch point); its pressure is moved to the launch level")
+      ->type_name("H")->group("Reference");
+  app.add_flag("--no-tie", a.no_tie,
+               "Do not tie the flight sensor to the base over the pre-launch window (keep the "
+               "base's absolute pressure)")
+      ->group("Reference");
+  app.add_option("--outside-base", a.outside_base,
+                 "Rows outside the base log's time span (flag no_base): hold the nearest base "
+                 "value with a widened band (default) or reject them")
+      ->check(CLI::IsMember({"hold", "reject"}))->type_name("hold|reject")->group("Reference");
+  app.add_option("--drift", a.drift,
+                 "linear: correct the ground-pressure drift between the pre-launch and "
+                 "post-landing resting segments (default none)")
+      ->check(CLI::IsMember({"linear", "none"}))->type_name("linear|none")->group("Reference");
+  app.add_option("--landing-height", a.landing_height,
+                 "--drift linear: height of the landing point above the launch point (default "
+                 "0)")
+      ->type_name("H")->group("Reference");
+  app.add_option("--checkpoint", a.checkpoints,
+                 "Known height above the launch point at a time (RFC 3339, or elapsed seconds "
+                 "as in elapsed_s), repeatable: fits a reference offset (and drift, with two or "
+                 "more)")
+      ->allow_extra_args(false)->type_name("TIME=HEIGHT")->group("Reference");
+  app.add_flag("--ref-gnss", a.ref_gnss,
+               "Fit the launch point's altitude above MSL to the log's GNSS altitude (median "
+               "over the low part); altitude_m uses it, heights stay barometric")
+      ->group("Reference");
+  app.add_option("--gnss-below", a.gnss_below,
+                 "--ref-gnss: use the samples up to this height (default 1000 m)")
+      ->type_name("H")->group("Reference");
+
   app.add_option("--sigma-p", a.sigma_p, "1-sigma noise of each pressure sample (default 0.05 hPa)")
       ->type_name("P")->group("Uncertainty");
   app.add_option("--sigma-ref", a.sigma_ref,
@@ -188,6 +310,10 @@ void add_pipeline_options(CLI::App& app, PipelineArgs& a) {
                   "standard model: 1-sigma deviation of the real column temperature from the "
                   "standard one (default 5 K)")
       ->type_name("K")->group("Uncertainty");
+  app.add_option("--drift-sigma", a.drift_sigma,
+                 "1-sigma ground-pressure drift per hour where the reference is held (rows "
+                 "outside a base log; default 0.5 hPa/h)")
+      ->type_name("P/h")->group("Uncertainty");
   app.add_option("--confidence", a.confidence,
                   "Two-sided confidence of the band (default 0.95)")
       ->type_name("P")->group("Uncertainty");

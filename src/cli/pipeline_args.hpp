@@ -4,6 +4,7 @@
 #pragma once
 
 #include <string>
+#include <vector>
 
 #include <CLI/CLI.hpp>
 
@@ -19,7 +20,13 @@ struct PipelineArgs {
   std::string profile_file, profile_leg = "ascent", profile_layer, saturation = "water";
   std::string latitude;
   std::string ref_pressure, qnh, elevation, ref_window, ref_temperature;
-  std::string sigma_p, sigma_ref, sigma_t, sigma_t_model, confidence;
+  std::string ref_base, base_offset, base_elevation, outside_base;
+  bool no_tie = false;
+  std::string drift, landing_height;
+  std::vector<std::string> checkpoints;
+  bool ref_gnss = false;
+  std::string gnss_below;
+  std::string sigma_p, sigma_ref, sigma_t, sigma_t_model, drift_sigma, confidence;
   std::string p_range;
   std::string spike_window, vspeed_window;
   bool strict = false;

@@ -68,6 +68,117 @@ void write_reference(JsonWriter& j, const HeightReport& r) {
     j.key("departure_threshold_hpa"); j.value(w.threshold_pa / 100.0);
     j.end_object();
   }
+  auto elapsed = [&](TimeNs t) { return static_cast<double>(t - r.first_time_ns) * 1e-9; };
+  j.key("base");
+  if (!ref.base) {
+    j.null();
+  } else {
+    const BaseReport& b = *ref.base;
+    j.begin_object();
+    j.key("path"); j.value(b.path);
+    j.key("sha256"); j.value(b.sha256);
+    j.key("rows_read"); j.value(b.rows_read);
+    j.key("rows_used"); j.value(b.rows_used);
+    j.key("rows_rejected"); j.value(b.rows_rejected);
+    j.key("first_time"); write_time(j, b.absolute_time, b.first_ns);
+    j.key("last_time"); write_time(j, b.absolute_time, b.last_ns);
+    j.key("interval_s"); j.value(b.interval_s);
+    j.key("interpolation"); j.value("linear");
+    j.key("clock_offset_s"); j.value(b.offset_s);
+    j.key("clock_offset_from"); j.value(b.offset_source);
+    j.key("clock_offset_estimate");
+    if (!b.offset_estimate) {
+      j.null();
+    } else {
+      const ClockOffsetEstimate& e = *b.offset_estimate;
+      j.begin_object();
+      j.key("offset_s"); j.value(e.offset_s);
+      j.key("sigma_s"); j.value(e.sigma_s);
+      j.key("samples"); j.value(static_cast<std::uint64_t>(e.samples));
+      j.key("segments"); j.value(static_cast<std::uint64_t>(e.segments));
+      j.key("residual_rms_hpa"); j.value(e.rms_pa / 100.0);
+      j.key("searched_s");
+      j.begin_array();
+      j.value(e.range_low_s);
+      j.value(e.range_high_s);
+      j.end_array();
+      j.end_object();
+    }
+    j.key("base_elevation_m"); j.value(b.elevation_m);
+    j.key("launch_elevation_m"); j.value(b.launch_elevation_m);
+    j.key("level_factor"); j.value(b.scale);
+    j.key("level_temperature_k"); j.value(b.move_temperature_k);
+    j.key("tie"); j.value(b.tie);
+    j.key("tie_offset_hpa");
+    if (b.tie) j.value(b.tie_pa / 100.0); else j.null();
+    j.key("tie_samples"); j.value(static_cast<std::uint64_t>(b.tie_samples));
+    j.key("outside_policy"); j.value(outside_base_policy_name(b.outside));
+    j.key("rows_outside"); j.value(r.no_base_rows);
+    j.end_object();
+  }
+  j.key("drift");
+  if (!ref.drift) {
+    j.null();
+  } else {
+    const DriftReport& d = *ref.drift;
+    j.begin_object();
+    j.key("kind"); j.value("linear");
+    j.key("pre_launch_time"); write_time(j, r.absolute_time, d.pre_time_ns);
+    j.key("pre_launch_elapsed_s"); j.value(elapsed(d.pre_time_ns));
+    j.key("pre_launch_pressure_hpa"); j.value(d.pre_pa / 100.0);
+    j.key("landing_segment_start_elapsed_s"); j.value(elapsed(d.landing.start_ns));
+    j.key("landing_segment_end_elapsed_s"); j.value(elapsed(d.landing.end_ns));
+    j.key("landing_segment_samples"); j.value(static_cast<std::uint64_t>(d.landing.samples));
+    j.key("post_landing_time"); write_time(j, r.absolute_time, d.post_time_ns);
+    j.key("post_landing_elapsed_s"); j.value(elapsed(d.post_time_ns));
+    j.key("post_landing_pressure_hpa"); j.value(d.post_pa / 100.0);
+    j.key("landing_height_m"); j.value(d.landing_height_m);
+    j.key("landing_height_from"); j.value(d.landing_height_given ? "option" : "assumed 0");
+    j.key("post_landing_at_launch_level_hpa"); j.value(d.post_launch_pa / 100.0);
+    j.key("drift_hpa_per_h"); j.value(d.rate_pa_per_s * 36.0);
+    j.end_object();
+  }
+  j.key("checkpoints");
+  if (!ref.checkpoint_fit) {
+    j.null();
+  } else {
+    const CheckpointFit& f = *ref.checkpoint_fit;
+    j.begin_object();
+    j.key("parameters"); j.value(static_cast<std::uint64_t>(f.parameters));
+    j.key("offset_hpa"); j.value(f.offset_pa / 100.0);
+    j.key("drift_hpa_per_h"); j.value(f.rate_pa_per_s * 36.0);
+    j.key("centre"); write_time(j, r.absolute_time, f.centre_ns);
+    j.key("rms_m"); j.value(f.rms_m);
+    j.key("points");
+    j.begin_array();
+    for (std::size_t i = 0; i < f.residual_m.size(); ++i) {
+      const CheckpointObservation& o = ref.checkpoint_observations[i];
+      j.begin_object();
+      j.key("time"); write_time(j, r.absolute_time, o.time_ns);
+      j.key("elapsed_s"); j.value(elapsed(o.time_ns));
+      j.key("pressure_hpa"); j.value(o.pressure_pa / 100.0);
+      j.key("known_height_m"); j.value(f.fitted_m[i] + f.residual_m[i]);
+      j.key("fitted_height_m"); j.value(f.fitted_m[i]);
+      j.key("residual_m"); j.value(f.residual_m[i]);
+      j.end_object();
+    }
+    j.end_array();
+    j.end_object();
+  }
+  j.key("gnss");
+  if (!ref.gnss) {
+    j.null();
+  } else {
+    const GnssFit& g = *ref.gnss;
+    j.begin_object();
+    j.key("launch_altitude_m"); j.value(g.datum_m);
+    j.key("method"); j.value("median of GNSS altitude minus height");
+    j.key("below_m"); j.value(g.below_m);
+    j.key("pairs"); j.value(static_cast<std::uint64_t>(g.pairs));
+    j.key("spread_m"); j.value(g.spread_m);
+    j.key("standard_error_m"); j.value(g.standard_error_m);
+    j.end_object();
+  }
   j.key("notes");
   j.begin_array();
   for (const auto& n : ref.notes) j.value(n);
@@ -229,6 +340,30 @@ std::string height_manifest(const ManifestRun& run, const HeightOptions& o,
   if (o.reference.temperature_k) j.value(*o.reference.temperature_k); else j.null();
   j.key("elevation_m");
   if (o.reference.elevation_m) j.value(*o.reference.elevation_m); else j.null();
+  const ReferenceOptions& ro = o.reference;
+  const bool base = ro.kind == ReferenceKind::kBase;
+  j.key("ref_base");
+  if (base) j.value(ro.base.file); else j.null();
+  j.key("base_offset");
+  if (!base) j.null();
+  else if (ro.base.offset_auto) j.value("auto");
+  else j.value(ro.base.offset_s.value_or(0.0));
+  j.key("base_elevation_m");
+  if (base && ro.base.elevation_m) j.value(*ro.base.elevation_m); else j.null();
+  j.key("tie");
+  if (base) j.value(ro.base.tie); else j.null();
+  j.key("outside_base");
+  if (base) j.value(outside_base_policy_name(ro.base.outside)); else j.null();
+  j.key("drift"); j.value(ro.drift == DriftCorrection::kLinear ? "linear" : "none");
+  j.key("landing_height_m");
+  if (ro.landing_height_m) j.value(*ro.landing_height_m); else j.null();
+  j.key("checkpoints");
+  j.begin_array();
+  for (const auto& c : ro.checkpoints) j.value(c.text);
+  j.end_array();
+  j.key("ref_gnss"); j.value(ro.gnss_datum);
+  j.key("gnss_below_m");
+  if (ro.gnss_datum) j.value(ro.gnss_below_m); else j.null();
   j.key("stationary_min_departure_hpa"); j.value(o.reference.stationary.min_departure_pa / 100.0);
   j.key("stationary_noise_multiple"); j.value(o.reference.stationary.noise_multiple);
   j.key("stationary_sustain_s"); j.value(o.reference.stationary.sustain_s);
@@ -237,6 +372,7 @@ std::string height_manifest(const ManifestRun& run, const HeightOptions& o,
   j.key("sigma_ref_hpa"); j.value(o.budget.sigma_ref_pa / 100.0);
   j.key("sigma_t_k"); j.value(o.budget.sigma_t_k);
   j.key("sigma_t_model_k"); j.value(o.budget.sigma_t_model_k);
+  j.key("drift_sigma_hpa_per_h"); j.value(o.budget.drift_sigma_pa_per_s * 36.0);
   j.key("confidence"); j.value(o.budget.confidence);
   j.key("coverage_factor");
   j.value(reports.empty() ? kMissing : reports.front().coverage_factor);

@@ -13,6 +13,8 @@
 #include "baroz/models/profile_model.hpp"
 #include "baroz/models/standard_model.hpp"
 #include "baroz/output/rejects_writer.hpp"
+#include "baroz/pipeline/base_source.hpp"
+#include "baroz/pipeline/log_survey.hpp"
 #include "baroz/pipeline/sample_feed.hpp"
 
 namespace baroz {
@@ -39,7 +41,10 @@ class HeightJob {
 
  private:
   void choose_model();
+  void run_first_pass();
+  void read_base();
   void setup_profile_model();
+  void fit_checkpoints_and_gnss();
   bool feed_causal_profile(const Sample& sample);
   bool reject(const RowProblem& problem);
   void output_row(const SeriesRow& row);
@@ -66,6 +71,7 @@ class HeightJob {
   std::unique_ptr<ReferenceResolver> resolver_;
   std::unique_ptr<SeriesWriter> writer_;
   Reference reference_;
+  std::optional<LogSurvey> survey_;   // the first pass, when one was needed and possible
   bool have_reference_ = false;
   bool have_first_time_ = false;
   TimeNs first_time_ns_ = 0;
@@ -142,11 +148,9 @@ void HeightJob::choose_model() {
       throw input_error(fmt::format(
           "{}: --temperature-model mean needs an air-temperature column", input_.name()));
     model_ = std::make_unique<IsothermalModel>(options_.temperature_model);
-  } else if (kind == ModelKind::kProfile) {
-    setup_profile_model();
-  } else {
+  } else if (kind == ModelKind::kStandard) {
     model_ = std::make_unique<StandardModel>();
-  }
+  }  // profile: set up after the first pass (setup_profile_model)
   if (options_.latitude_deg && kind != ModelKind::kProfile)
     diag_.note(input_.name(),
                fmt::format("--latitude applies to the profile model; the {} model keeps the "
@@ -165,12 +169,7 @@ void HeightJob::setup_profile_model() {
     if (!report_.columns.has(Role::kTemperature))
       throw input_error(fmt::format(
           "{}: the profile model needs an air-temperature column or --profile FILE", src));
-    std::unique_ptr<ByteSource> second =
-        options_.series.line_buffered ? nullptr : input_.reopen();
-    if (second) {
-      build = profile_from_log(*second, options_.reader, options_.columns,
-                               options_.decimal_comma, options_.validation, ps);
-    }
+    if (survey_ && survey_->profile) build = std::move(survey_->profile);
   }
 
   GravityFrame frame = GravityFrame::standard();
@@ -230,6 +229,113 @@ void HeightJob::setup_profile_model() {
   }
 }
 
+void HeightJob::run_first_pass() {
+  const ReferenceOptions& ro = options_.reference;
+  SurveyRequest req;
+  if (report_.model == ModelKind::kProfile && options_.profile.file.empty() &&
+      report_.columns.has(Role::kTemperature))
+    req.profile = &options_.profile;
+  const bool drift = ro.drift == DriftCorrection::kLinear;
+  req.landing = drift || (ro.kind == ReferenceKind::kBase && ro.base.offset_auto);
+  req.stationary = ro.stationary;
+  req.landing_capacity = ro.max_window_samples;
+  req.checkpoints = ro.checkpoints;
+  req.gnss = ro.gnss_datum;
+  if (!req.any()) return;
+  std::unique_ptr<ByteSource> second =
+      options_.series.line_buffered ? nullptr : input_.reopen();
+  if (!second) {
+    const char* what = drift                       ? "--drift linear"
+                       : !ro.checkpoints.empty()   ? "--checkpoint"
+                       : ro.gnss_datum             ? "--ref-gnss"
+                                                   : nullptr;
+    if (what)
+      throw input_error(fmt::format("{}: {} needs the whole log before the first row is "
+                                    "written (it reads the log twice): give a file{}",
+                                    input_.name(), what,
+                                    options_.series.line_buffered ? " without --line-buffered"
+                                                                  : ", not a stream"));
+    if (req.landing)
+      diag_.note(input_.name(), "the input is a stream: --base-offset auto uses the pre-launch "
+                                "segment only");
+    return;  // the profile is then built causally
+  }
+  survey_ = survey_log(*second, options_.reader, options_.columns, options_.decimal_comma,
+                       options_.validation, req);
+}
+
+void HeightJob::read_base() {
+  const BaseOptions& bo = options_.reference.base;
+  std::unique_ptr<ByteSource> file = open_file_source(bo.file);
+  BaseRead base = read_base_log(*file, options_.columns.tz_offset_s, ValidationOptions{}, diag_);
+  resolver_->set_base(std::move(base.series), std::move(base.report));
+}
+
+void HeightJob::fit_checkpoints_and_gnss() {
+  const ReferenceOptions& ro = options_.reference;
+  const std::string& src = input_.name();
+  auto height_at = [&](TimeNs t, double p, double temp, double delta_pa) {
+    ReferencePoint rp = reference_.point;
+    rp.pressure_pa = reference_.track.at(t).pressure_pa + delta_pa;
+    return model_->evaluate(p, temp, rp);
+  };
+  if (!ro.checkpoints.empty()) {
+    const std::vector<CheckpointObservation>& obs = survey_->checkpoints;
+    const CheckpointFit fit =
+        fit_checkpoints(ro.checkpoints, obs, [&](std::size_t i, double delta) {
+          const HeightEval e = height_at(obs[i].time_ns, obs[i].pressure_pa,
+                                         obs[i].temperature_k, delta);
+          return e.valid ? std::pair{e.height_m, e.dh_dpref}
+                         : std::pair{kMissing, kMissing};
+        });
+    reference_.track.set_correction(fit.offset_pa, fit.rate_pa_per_s, fit.centre_ns);
+    std::string list;
+    for (std::size_t i = 0; i < fit.residual_m.size(); ++i)
+      list += fmt::format("{}{} ({:+.3f} m)", i ? ", " : "", ro.checkpoints[i].text,
+                          fit.residual_m[i]);
+    diag_.note(src, fmt::format(
+                        "checkpoints: reference corrected by {:+.3f} hPa{} from {} checkpoint{}; "
+                        "residuals {}; rms {:.3f} m",
+                        fit.offset_pa / 100.0,
+                        fit.parameters == 2
+                            ? fmt::format(" and {:+.3f} hPa/h", fit.rate_pa_per_s * 36.0)
+                            : std::string(),
+                        obs.size(), obs.size() == 1 ? "" : "s", list, fit.rms_m));
+    if (!fit.note.empty()) diag_.note(src, fmt::format("checkpoints: {}", fit.note));
+    reference_.checkpoint_observations = obs;
+    reference_.checkpoint_fit = fit;
+  }
+  if (ro.gnss_datum) {
+    std::vector<double> diffs;
+    diffs.reserve(survey_->gnss.size());
+    for (const GnssPair& g : survey_->gnss) {
+      const HeightEval e = height_at(g.time_ns, g.pressure_pa, g.temperature_k, 0.0);
+      if (e.valid && e.height_m <= ro.gnss_below_m) diffs.push_back(g.gnss_alt_m - e.height_m);
+    }
+    constexpr std::size_t kMinPairs = 10;
+    if (diffs.size() < kMinPairs)
+      throw input_error(fmt::format("{}: --ref-gnss: {} samples with a GNSS altitude below {:.0f} "
+                                    "m (at least {} needed)",
+                                    src, diffs.size(), ro.gnss_below_m, kMinPairs));
+    const GnssFit fit = fit_gnss_datum(diffs, ro.gnss_below_m);
+    elevation_m_ = fit.datum_m;
+    reference_.point.datum_geopotential_m =
+        profile_model_ && !profile_model_->frame().is_standard()
+            ? profile_model_->frame().geopotential_from_geometric(elevation_m_)
+            : geopotential_from_geometric(elevation_m_);
+    diag_.note(src, fmt::format("GNSS fit (--ref-gnss): the launch point is at {:.2f} m above "
+                                "MSL (median of {} differences GNSS - height below {:.0f} m{}; "
+                                "spread {:.2f} m, standard error >= {:.2f} m); altitude_m uses "
+                                "it, the heights stay barometric",
+                                fit.datum_m, fit.pairs, ro.gnss_below_m,
+                                survey_->gnss_stride > 1
+                                    ? fmt::format(", every {}th sample", survey_->gnss_stride)
+                                    : std::string(),
+                                fit.spread_m, fit.standard_error_m));
+    reference_.gnss = fit;
+  }
+}
+
 bool HeightJob::feed_causal_profile(const Sample& s) {
   double tv = kMissing;
   if (!std::isnan(s.temperature_k) && !std::isnan(s.humidity_pct)) {
@@ -273,7 +379,7 @@ bool HeightJob::reject(const RowProblem& problem) {
 void HeightJob::start_writer(bool time_is_number) {
   SeriesOptions so = options_.series;
   so.altitude = options_.reference.kind == ReferenceKind::kQnh ||
-                options_.reference.elevation_m.has_value();
+                options_.reference.elevation_m.has_value() || options_.reference.gnss_datum;
   so.gnss_alt = report_.columns.has(Role::kGnssAlt);
   so.vspeed = options_.vspeed;
   writer_ = std::make_unique<SeriesWriter>(output_, so, time_is_number);
@@ -283,6 +389,28 @@ void HeightJob::start_writer(bool time_is_number) {
 
 bool HeightJob::emit(Sample& s, bool in_window) {
   if (in_window) s.flags |= kFlagReferenceWindow;
+  ReferencePoint ref = reference_.point;
+  const TrackValue track = reference_.track.at(s.time_ns);
+  ref.pressure_pa = track.pressure_pa;
+  double reference_age_s = 0.0;
+  if (track.outside_base) {
+    s.flags |= kFlagNoBase;
+    ++report_.no_base_rows;
+    reference_age_s = track.outside_s;
+    if (options_.reference.base.outside == OutsideBasePolicy::kReject) {
+      problem_.reason = RejectReason::kOutsideBase;
+      problem_.line = s.line;
+      problem_.record = s.record;
+      problem_.column = report_.columns.name[static_cast<std::size_t>(Role::kTime)];
+      problem_.field = report_.columns.at(Role::kTime);
+      problem_.message = fmt::format(
+          "no base-station pressure: {:.1f} s outside the base log (--outside-base hold keeps "
+          "such rows)",
+          track.outside_s);
+      problem_.raw = s.raw;
+      return reject(problem_);
+    }
+  }
   HeightEval e;
   double altitude = kMissing;
   if (altimeter_) {
@@ -310,7 +438,7 @@ bool HeightJob::emit(Sample& s, bool in_window) {
                      "top; on a stream the rows before it cannot use it)"
                    : "no temperature sample has arrived yet to build the profile from";
   } else {
-    e = model_->evaluate(s.pressure_pa, s.temperature_k, reference_.point);
+    e = model_->evaluate(s.pressure_pa, s.temperature_k, ref);
     if (e.valid && !std::isnan(elevation_m_)) altitude = elevation_m_ + e.height_m;
   }
   if (!e.valid) {
@@ -333,7 +461,7 @@ bool HeightJob::emit(Sample& s, bool in_window) {
     s.flags |= kFlagExtrapolated;
     ++report_.extrapolated_rows;
   }
-  const HeightSigma sigma = budget_->evaluate(e);
+  const HeightSigma sigma = budget_->evaluate(e, reference_age_s);
   const double half = budget_->coverage_factor() * sigma.total_m;
 
   if (!have_first_time_) {
@@ -446,11 +574,12 @@ bool HeightJob::release_held() {
 void HeightJob::resolve_reference(bool end_of_input) {
   reference_ = resolver_->resolve(end_of_input, input_.name());
   have_reference_ = true;
+  for (const auto& n : reference_.notes) diag_.note(input_.name(), n);
   if (profile_model_ && !profile_model_->frame().is_standard() && !std::isnan(elevation_m_))
     reference_.point.datum_geopotential_m =
         profile_model_->frame().geopotential_from_geometric(elevation_m_);
+  if (survey_) fit_checkpoints_and_gnss();
   const std::string& src = input_.name();
-  for (const auto& n : reference_.notes) diag_.note(src, n);
   if (reference_.window) {
     const ReferenceWindow& w = *reference_.window;
     std::string t = std::isnan(w.temperature_k)
@@ -499,6 +628,8 @@ HeightReport HeightJob::run() {
   report_.layout = reader_->layout();
   report_.columns = map_columns(report_.layout.columns, options_.columns, input_.name());
   choose_model();
+  run_first_pass();
+  if (report_.model == ModelKind::kProfile) setup_profile_model();
   diag_.note(input_.name(), fmt::format("model {} ({})", model_name(report_.model),
                                         report_.model_reason));
   if (options_.vspeed || options_.despike)
@@ -509,6 +640,8 @@ HeightReport HeightJob::run() {
   resolver_ = std::make_unique<ReferenceResolver>(
       options_.reference, model_->kind() == ModelKind::kIsothermal,
       report_.columns.has(Role::kTemperature));
+  if (options_.reference.kind == ReferenceKind::kBase) read_base();
+  if (survey_ && survey_->landing) resolver_->set_landing(std::move(*survey_->landing));
 
   // Parse on a second thread when the input can be read ahead (a file) and
   // rows need not appear one by one (no --line-buffered).

@@ -67,43 +67,4 @@ ProfileBuild read_profile_table(ByteSource& input, const ReaderOptions& reader,
   return out;
 }
 
-ProfileBuild profile_from_log(ByteSource& input, const ReaderOptions& reader,
-                              const ColumnOptions& columns, bool decimal_comma,
-                              const ValidationOptions& validation,
-                              const ProfileSettings& settings) {
-  std::unique_ptr<RecordReader> records = open_record_reader(input, reader);
-  const ColumnMap map = map_columns(records->layout().columns, columns, input.name());
-  std::unique_ptr<SampleFeed> feed =
-      make_sample_feed(*records, map, decimal_comma, validation, /*threaded=*/true);
-  ProfileBuilder builder(settings.builder);
-  ProfileBuild out;
-  out.source = fmt::format("log {}", profile_leg_name(settings.builder.leg));
-  FeedItem item;
-  while (feed->next(item)) {
-    if (!item.sample) continue;
-    const Sample& s = *item.sample;
-    if (std::isnan(out.first_latitude_deg) && !std::isnan(s.lat_deg))
-      out.first_latitude_deg = s.lat_deg;
-    if (std::isnan(s.temperature_k)) {
-      builder.add(s.pressure_pa, s.temperature_k, kMissing);
-      continue;
-    }
-    double tv = kMissing;
-    if (!std::isnan(s.humidity_pct)) {
-      tv = virtual_temperature_from_rh_k(s.temperature_k, s.humidity_pct, s.pressure_pa,
-                                         settings.saturation);
-      out.humidity = true;
-    }
-    builder.add(s.pressure_pa, s.temperature_k, tv);
-  }
-  try {
-    out.profile.emplace(builder.build());
-  } catch (const Error& e) {
-    throw input_error(fmt::format("{}: {}", input.name(), e.what()));
-  }
-  out.samples = builder.samples_used();
-  out.layers = builder.layers();
-  return out;
-}
-
 }  // namespace baroz

@@ -15,9 +15,21 @@ std::string_view reference_kind_name(ReferenceKind kind) {
     case ReferenceKind::kPressure: return "pressure";
     case ReferenceKind::kQnh: return "qnh";
     case ReferenceKind::kWindow: return "window";
+    case ReferenceKind::kBase: return "base";
   }
   return "window";
 }
+
+std::string_view outside_base_policy_name(OutsideBasePolicy policy) {
+  return policy == OutsideBasePolicy::kReject ? "reject" : "hold";
+}
+
+void ReferenceResolver::set_base(std::shared_ptr<const BaseSeries> base, BaseReport report) {
+  base_ = std::move(base);
+  base_report_ = std::move(report);
+}
+
+void ReferenceResolver::set_landing(RestSegment landing) { landing_ = std::move(landing); }
 
 ReferenceResolver::ReferenceResolver(const ReferenceOptions& options, bool needs_temperature,
                                      bool has_temperature_column)
@@ -33,6 +45,13 @@ ReferenceResolver::ReferenceResolver(const ReferenceOptions& options, bool needs
     case ReferenceKind::kQnh:
       // height_m is measured from the window's altitude unless --elevation.
       needs_window_ = !options_.elevation_m || temperature_from_window;
+      break;
+    case ReferenceKind::kBase:
+      // The tie and the clock-offset estimate use the pre-launch window, the
+      // hypsometric move of the base its temperature.
+      needs_window_ = options_.base.tie || options_.base.offset_auto || temperature_from_window ||
+                      (options_.base.elevation_m && has_temperature_column_ &&
+                       !options_.temperature_k);
       break;
   }
 }
@@ -65,9 +84,9 @@ Reference ReferenceResolver::resolve(bool end_of_input, std::string_view source)
   ref.kind = options_.kind;
   ref.qnh_pa = options_.kind == ReferenceKind::kQnh ? options_.pressure_pa : kMissing;
 
+  std::vector<unsigned char> use(times_.size(), 1);
   if (needs_window_) {
     ReferenceWindow w;
-    std::vector<unsigned char> use(times_.size(), 1);
     if (options_.window_s) {
       if (!done_) window_end_ = times_.size();
       w.auto_detected = false;
@@ -135,26 +154,19 @@ Reference ReferenceResolver::resolve(bool end_of_input, std::string_view source)
     ref.window = w;
   }
 
-  switch (options_.kind) {
-    case ReferenceKind::kWindow: ref.point.pressure_pa = ref.window->pressure_pa; break;
-    case ReferenceKind::kPressure: ref.point.pressure_pa = options_.pressure_pa; break;
-    case ReferenceKind::kQnh:
-      // The model measures from the window's pressure (or is offset by the
-      // elevation); the pipeline applies the altimeter relation.
-      ref.point.pressure_pa = ref.window ? ref.window->pressure_pa : options_.pressure_pa;
-      break;
-  }
-
   if (options_.temperature_k) {
     ref.point.temperature_k = *options_.temperature_k;
     ref.temperature_source = "option";
   } else if (ref.window && !std::isnan(ref.window->temperature_k)) {
     ref.point.temperature_k = ref.window->temperature_k;
     ref.temperature_source = "window";
+  } else if (base_ && !std::isnan(base_->mean_temperature_k())) {
+    ref.point.temperature_k = base_->mean_temperature_k();
+    ref.temperature_source = "base";
   } else {
     ref.point.temperature_k = constants::kT0;
     ref.temperature_source = "standard";
-    if (needs_temperature_)
+    if (needs_temperature_ || (options_.kind == ReferenceKind::kBase && options_.base.elevation_m))
       ref.notes.push_back(has_temperature_column_
                               ? "no air temperature in the reference window: the reference "
                                 "temperature is 288.15 K (give --ref-temperature)"
@@ -162,9 +174,187 @@ Reference ReferenceResolver::resolve(bool end_of_input, std::string_view source)
                                 "288.15 K (give --ref-temperature)");
   }
 
+  std::vector<RestSample> window_used;
+  if (ref.window)
+    for (std::size_t i = 0; i < window_end_; ++i)
+      if (use[i]) window_used.push_back({times_[i], pressures_[i]});
+
+  switch (options_.kind) {
+    case ReferenceKind::kWindow:
+      ref.point.pressure_pa = ref.window->pressure_pa;
+      if (options_.drift == DriftCorrection::kLinear)
+        build_drift_track(ref, window_used, source);
+      else
+        ref.track = ReferenceTrack::constant(ref.point.pressure_pa);
+      break;
+    case ReferenceKind::kPressure:
+      ref.point.pressure_pa = options_.pressure_pa;
+      ref.track = ReferenceTrack::constant(ref.point.pressure_pa);
+      break;
+    case ReferenceKind::kQnh:
+      // The model measures from the window's pressure (or is offset by the
+      // elevation); the pipeline applies the altimeter relation.
+      ref.point.pressure_pa = ref.window ? ref.window->pressure_pa : options_.pressure_pa;
+      ref.track = ReferenceTrack::constant(ref.point.pressure_pa);
+      break;
+    case ReferenceKind::kBase:
+      build_base_track(ref, window_used, source);
+      ref.point.pressure_pa = ref.track.at(times_.empty() ? base_->first_ns() : times_.front()).pressure_pa;
+      break;
+  }
+
   ref.point.datum_geopotential_m =
       options_.elevation_m ? geopotential_from_geometric(*options_.elevation_m) : kMissing;
   return ref;
+}
+
+}  // namespace baroz
+
+namespace baroz {
+namespace {
+
+/// Factor moving a pressure measured `dz_m` above a level down to it, by the
+/// isothermal hypsometric equation at temperature `t_k`:
+/// p_level = p exp(g0 dz / (R T)) (docs/reference.md).
+double hypsometric_factor(double dz_m, double t_k) {
+  return std::exp(constants::kG0 * dz_m / (constants::kRAir * t_k));
+}
+
+}  // namespace
+
+void ReferenceResolver::build_base_track(Reference& ref, const std::vector<RestSample>& window,
+                                         std::string_view source) {
+  if (!base_) throw input_error(fmt::format("{}: no base-station log was read", source));
+  BaseReport b = base_report_;
+  const BaseOptions& bo = options_.base;
+  b.tie = bo.tie;
+  b.outside = bo.outside;
+  b.launch_elevation_m = options_.elevation_m.value_or(0.0);
+  b.move_temperature_k = ref.point.temperature_k;
+  if (bo.elevation_m) {
+    b.elevation_m = *bo.elevation_m;
+    b.scale = hypsometric_factor(b.elevation_m - b.launch_elevation_m, ref.point.temperature_k);
+    ref.notes.push_back(fmt::format(
+        "base station {:+.2f} m from the launch point{}: its pressure is moved to the launch "
+        "level hypsometrically at {:.2f} K (factor {:.6f})",
+        b.elevation_m - b.launch_elevation_m,
+        options_.elevation_m ? "" : " (no --elevation: --base-elevation is read as height above "
+                                    "the launch point)",
+        ref.point.temperature_k, b.scale));
+  }
+
+  if (bo.offset_s) {
+    b.offset_s = *bo.offset_s;
+    b.offset_source = "option";
+  } else if (bo.offset_auto) {
+    std::vector<std::span<const RestSample>> segments;
+    segments.emplace_back(window);
+    if (landing_ && landing_->found) segments.emplace_back(landing_->used);
+    const ClockOffsetEstimate est =
+        estimate_clock_offset(segments, *base_, b.scale, bo.offset_search);
+    if (!est.ok)
+      throw input_error(fmt::format("{}: --base-offset auto: cannot determine the base clock "
+                                    "offset: {}; give --base-offset SECONDS",
+                                    source, est.why));
+    b.offset_s = est.offset_s;
+    b.offset_source = "auto";
+    b.offset_estimate = est;
+    ref.notes.push_back(fmt::format(
+        "base clock offset (auto): {:+.2f} s +/- {:.2f} s (1 sigma) from {} resting samples in {} "
+        "segment{}{}, residual rms {:.3f} hPa",
+        est.offset_s, est.sigma_s, est.samples, est.segments, est.segments == 1 ? "" : "s",
+        est.segments == 1 ? " (pre-launch only)" : " (pre-launch and post-landing)",
+        est.rms_pa / 100.0));
+  } else {
+    b.offset_s = 0.0;
+    b.offset_source = "default";
+  }
+
+  const auto shift = static_cast<TimeNs>(std::llround(b.offset_s * 1e9));
+  if (bo.tie) {
+    double sum = 0.0;
+    std::size_t n = 0;
+    for (const RestSample& s : window) {
+      const BaseValue v = base_->at(s.time_ns - shift);
+      if (!v.inside) continue;
+      sum += s.pressure_pa - b.scale * v.pressure_pa;
+      ++n;
+    }
+    if (n == 0)
+      throw input_error(fmt::format(
+          "{}: the base log does not cover the reference window (base {:+.1f} s after "
+          "--base-offset); check --base-offset, or give --no-tie",
+          source, b.offset_s));
+    b.tie_pa = sum / static_cast<double>(n);
+    b.tie_samples = n;
+    ref.notes.push_back(fmt::format(
+        "flight sensor tied to the base over the reference window: offset {:+.3f} hPa from {} "
+        "samples (--no-tie to keep the base's absolute pressure)",
+        b.tie_pa / 100.0, n));
+  }
+  ref.notes.push_back(fmt::format(
+      "reference from the base station {} ({} samples every {:.1f} s, clock offset {:+.2f} s "
+      "({})); samples outside its span are flagged no_base and {}",
+      b.path, b.rows_used, b.interval_s, b.offset_s, b.offset_source,
+      bo.outside == OutsideBasePolicy::kReject ? "rejected"
+                                               : "hold its nearest value with a widened band"));
+  ref.track = ReferenceTrack::base(base_, b.offset_s, b.scale, b.tie_pa);
+  ref.base = std::move(b);
+}
+
+void ReferenceResolver::build_drift_track(Reference& ref, const std::vector<RestSample>& window,
+                                          std::string_view source) {
+  if (!landing_)
+    throw input_error(fmt::format(
+        "{}: --drift linear needs the post-landing segment, found by reading the log twice: "
+        "give a file, not a stream",
+        source));
+  const RestSegment& land = *landing_;
+  if (!land.found || land.used.empty() || !ref.window || !ref.window->launch_found)
+    throw input_error(fmt::format(
+        "{}: --drift linear: no {} found (the log must rest on the ground before the launch "
+        "and after the landing)",
+        source, ref.window && ref.window->launch_found ? "stationary post-landing segment"
+                                                       : "flight between two resting segments"));
+  if (land.start_ns <= ref.window->launch_ns)
+    throw input_error(fmt::format("{}: --drift linear: the post-landing segment starts before "
+                                  "the launch",
+                                  source));
+  DriftReport d;
+  RestSegment pre;
+  pre.used = window;
+  d.pre_time_ns = pre.mean_time_ns();
+  d.pre_pa = ref.window->pressure_pa;
+  d.landing = land;
+  d.landing.used.clear();
+  d.landing.used.shrink_to_fit();
+  d.post_time_ns = land.mean_time_ns();
+  d.post_pa = land.pressure_pa;
+  d.landing_height_given = options_.landing_height_m.has_value();
+  d.landing_height_m = options_.landing_height_m.value_or(0.0);
+  d.post_launch_pa = d.post_pa * hypsometric_factor(d.landing_height_m, ref.point.temperature_k);
+  const double dt_s = static_cast<double>(d.post_time_ns - d.pre_time_ns) * 1e-9;
+  d.rate_pa_per_s = (d.post_launch_pa - d.pre_pa) / dt_s;
+  const double rate_hpa_h = d.rate_pa_per_s * 3600.0 / 100.0;
+  ref.notes.push_back(fmt::format(
+      "drift linear: ground {:.2f} hPa before the launch, {:.2f} hPa after the landing ({:.0f} s "
+      "later, {} samples{}): drift {:+.3f} hPa/h",
+      d.pre_pa / 100.0, d.post_launch_pa / 100.0, dt_s, land.used.size(),
+      d.landing_height_given
+          ? fmt::format(", landed {:+.2f} m from the launch point (--landing-height)",
+                        d.landing_height_m)
+          : std::string(", landing taken at the launch level: give --landing-height H if it "
+                        "landed elsewhere"),
+      rate_hpa_h));
+  // Common practice: synoptic tendencies beyond ~3 hPa in 3 h are "rapid";
+  // a larger apparent drift more likely means a landing at another height.
+  if (std::fabs(rate_hpa_h) > 3.0)
+    ref.notes.push_back(fmt::format(
+        "drift linear: {:+.2f} hPa/h is unusually fast for the weather; if the flight landed "
+        "at another height than it started, give --landing-height H",
+        rate_hpa_h));
+  ref.track = ReferenceTrack::linear(d.pre_time_ns, d.pre_pa, d.post_time_ns, d.post_launch_pa);
+  ref.drift = std::move(d);
 }
 
 }  // namespace baroz

@@ -21,6 +21,7 @@ std::string_view reject_code(RejectReason reason) {
     case RejectReason::kBadEncoding: return "bad_encoding";
     case RejectReason::kNoTemperature: return "no_temperature";
     case RejectReason::kOutsideModel: return "outside_model";
+    case RejectReason::kOutsideBase: return "outside_base";
     case RejectReason::kCount: break;
   }
   return "unknown";

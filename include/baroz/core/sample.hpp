@@ -25,13 +25,14 @@ enum SampleFlag : std::uint32_t {
   kFlagReferenceWindow = 1u << 6,///< the sample lies in the reference window
   kFlagExtrapolated = 1u << 7,   ///< the model was used outside its valid range
   kFlagSpike = 1u << 8,          ///< the spike filter found an outlier (row kept)
+  kFlagNoBase = 1u << 9,         ///< outside the base-station log's span (nearest value held)
 };
 
 /// Names of the flags as written in the `flags` column, in bit order.
 inline constexpr std::string_view kFlagNames[] = {
     "time_backwards", "time_duplicate", "gap",          "no_temperature",
     "no_humidity",    "no_gnss",        "ref_window",   "extrapolated",
-    "spike"};
+    "spike",          "no_base"};
 
 /// A sample in SI units. Optional quantities are NaN when missing.
 struct Sample {

@@ -72,6 +72,7 @@ struct HeightReport {
   std::string latitude_source;             ///< "option" or "column"
   std::uint64_t extrapolated_rows = 0;     ///< rows flagged extrapolated
   std::uint64_t spike_rows = 0;            ///< rows flagged spike
+  std::uint64_t no_base_rows = 0;          ///< rows flagged no_base (held or rejected)
   std::optional<Reference> reference;
   double coverage_factor = 0.0;
   TimeNs first_time_ns = 0;

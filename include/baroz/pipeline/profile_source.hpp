@@ -1,6 +1,6 @@
 // Where the profile model's temperature profile comes from: a first pass
-// over the log itself (its ascent, descent or all of it), or a separate
-// table of pressure and temperature (--profile FILE). Both read through the
+// over the log itself (its ascent, descent or all of it; log_survey.hpp), or a
+// separate table of pressure and temperature (--profile FILE). Both read through the
 // same reader, column mapping and validation as the log.
 #pragma once
 
@@ -41,13 +41,5 @@ struct ProfileBuild {
 /// input error naming the file and line. Throws baroz::Error.
 ProfileBuild read_profile_table(ByteSource& input, const ReaderOptions& reader,
                                 const ValidationOptions& validation, SaturationPhase saturation);
-
-/// First pass over a log: every accepted sample with a temperature goes to
-/// a ProfileBuilder (rejected rows are skipped here; the second pass reports
-/// them). Throws baroz::Error when the chosen leg has no temperature.
-ProfileBuild profile_from_log(ByteSource& input, const ReaderOptions& reader,
-                              const ColumnOptions& columns, bool decimal_comma,
-                              const ValidationOptions& validation,
-                              const ProfileSettings& settings);
 
 }  // namespace baroz

@@ -1,21 +1,49 @@
 // The reference manager stage: the ground reference the heights are measured
-// from (p_ref, T_ref, datum), chosen by one of --ref-pressure, --qnh or
-// --ref-window DUR|auto (the default).
+// from (p_ref(t), T_ref, datum), chosen by one of --ref-pressure, --qnh,
+// --ref-window DUR|auto (the default) or --ref-base FILE, optionally with a
+// linear drift correction (--drift linear) and checkpoints. The result is a
+// Reference: a ReferenceTrack giving p_ref at each sample's time, and a
+// record of every choice made, for stderr and the manifest.
 #pragma once
 
 #include <cstddef>
+#include <cstdint>
+#include <memory>
 #include <optional>
 #include <string>
 #include <vector>
 
 #include "baroz/core/sample.hpp"
 #include "baroz/models/height_model.hpp"
+#include "baroz/reference/base_series.hpp"
+#include "baroz/reference/checkpoint_fit.hpp"
+#include "baroz/reference/clock_offset.hpp"
+#include "baroz/reference/gnss_fit.hpp"
+#include "baroz/reference/landing_detector.hpp"
+#include "baroz/reference/reference_track.hpp"
 #include "baroz/reference/stationary_detector.hpp"
 
 namespace baroz {
 
-enum class ReferenceKind { kPressure, kQnh, kWindow };
-std::string_view reference_kind_name(ReferenceKind kind);  ///< "pressure", "qnh", "window"
+enum class ReferenceKind { kPressure, kQnh, kWindow, kBase };
+/// "pressure", "qnh", "window", "base"
+std::string_view reference_kind_name(ReferenceKind kind);
+
+/// Samples outside the base log's time span (flag no_base): --outside-base.
+enum class OutsideBasePolicy { kHold, kReject };
+std::string_view outside_base_policy_name(OutsideBasePolicy policy);  ///< "hold", "reject"
+
+struct BaseOptions {
+  std::string file;                   ///< --ref-base FILE
+  std::optional<double> offset_s;     ///< --base-offset SECONDS (nullopt with auto)
+  bool offset_auto = false;           ///< --base-offset auto
+  std::optional<double> elevation_m;  ///< --base-elevation (same datum as --elevation)
+  bool tie = true;                    ///< tie the flight sensor to the base (not --no-tie)
+  OutsideBasePolicy outside = OutsideBasePolicy::kHold;
+  ClockOffsetOptions offset_search;
+};
+
+enum class DriftCorrection { kNone, kLinear };
 
 struct ReferenceOptions {
   ReferenceKind kind = ReferenceKind::kWindow;
@@ -23,6 +51,12 @@ struct ReferenceOptions {
   std::optional<double> window_s;            ///< --ref-window DUR [s]; nullopt = auto
   std::optional<double> temperature_k;       ///< --ref-temperature [K]
   std::optional<double> elevation_m;         ///< --elevation, geometric [m] above MSL
+  BaseOptions base;                          ///< kind == kBase
+  DriftCorrection drift = DriftCorrection::kNone;  ///< --drift
+  std::optional<double> landing_height_m;    ///< --landing-height (drift linear)
+  std::vector<Checkpoint> checkpoints;       ///< --checkpoint TIME=HEIGHT
+  bool gnss_datum = false;                   ///< --ref-gnss
+  double gnss_below_m = 1000.0;              ///< --gnss-below: the low part for --ref-gnss
   StationaryOptions stationary;
   /// At most this many samples are held back while looking for the launch;
   /// past it the samples seen so far are taken as the window (memory bound).
@@ -46,12 +80,51 @@ struct ReferenceWindow {
   double threshold_pa = kMissing;    ///< (auto) departure threshold [Pa]
 };
 
+/// What the reference manager did with a base-station log.
+struct BaseReport {
+  std::string path, sha256;
+  std::uint64_t rows_read = 0, rows_used = 0, rows_rejected = 0;
+  bool absolute_time = false;
+  TimeNs first_ns = 0, last_ns = 0;   ///< the base's span, on its own clock
+  double interval_s = 0.0;            ///< median interval
+  double offset_s = 0.0;              ///< added to the base's times
+  std::string offset_source;          ///< "default" (0), "option" or "auto"
+  std::optional<ClockOffsetEstimate> offset_estimate;  ///< with auto
+  double elevation_m = kMissing;      ///< --base-elevation
+  double launch_elevation_m = 0.0;    ///< the launch point in the same datum
+  double scale = 1.0;                 ///< base pressure -> launch level
+  double move_temperature_k = kMissing;  ///< temperature of the hypsometric move
+  bool tie = true;
+  double tie_pa = 0.0;                ///< flight sensor minus (scaled) base, mean over the window
+  std::size_t tie_samples = 0;
+  OutsideBasePolicy outside = OutsideBasePolicy::kHold;
+};
+
+/// What --drift linear found.
+struct DriftReport {
+  TimeNs pre_time_ns = 0;             ///< mean time of the pre-launch samples used
+  double pre_pa = kMissing;           ///< pre-launch ground pressure
+  RestSegment landing;                ///< post-landing segment (without its samples)
+  TimeNs post_time_ns = 0;            ///< mean time of the post-landing samples used
+  double post_pa = kMissing;          ///< measured post-landing pressure
+  double post_launch_pa = kMissing;   ///< moved to the launch level
+  double landing_height_m = 0.0;      ///< landing above the launch point
+  bool landing_height_given = false;
+  double rate_pa_per_s = 0.0;         ///< the drift
+};
+
 struct Reference {
   ReferenceKind kind = ReferenceKind::kWindow;
-  ReferencePoint point;                 ///< what the model measures from
+  ReferencePoint point;                 ///< what the model measures from (p_ref at the window)
+  ReferenceTrack track;                 ///< p_ref(t)
   double qnh_pa = kMissing;             ///< --qnh value
   std::optional<ReferenceWindow> window;
-  std::string temperature_source;       ///< "option", "window" or "standard" (288.15 K)
+  std::string temperature_source;       ///< "option", "window", "base" or "standard" (288.15 K)
+  std::optional<BaseReport> base;
+  std::optional<DriftReport> drift;
+  std::vector<CheckpointObservation> checkpoint_observations;
+  std::optional<CheckpointFit> checkpoint_fit;
+  std::optional<GnssFit> gnss;
   std::vector<std::string> notes;       ///< for stderr and the manifest
 };
 
@@ -63,6 +136,13 @@ class ReferenceResolver {
   ReferenceResolver(const ReferenceOptions& options, bool needs_temperature,
                     bool has_temperature_column);
 
+  /// The base-station log (kind kBase), read beforehand; `report` carries
+  /// what its reading found (path, checksum, counts).
+  void set_base(std::shared_ptr<const BaseSeries> base, BaseReport report);
+  /// The post-landing segment found by a first pass over the log (for
+  /// --drift linear and --base-offset auto).
+  void set_landing(RestSegment landing);
+
   /// Whether samples must be held back until the window is known.
   bool needs_window() const { return needs_window_; }
   /// Feeds the next accepted sample (in order); true once the window is known
@@ -72,6 +152,9 @@ class ReferenceResolver {
   /// Builds the reference from what was fed. `end_of_input`: the log ended
   /// (a window without a launch is then the whole log). Throws baroz::Error
   /// (input) when no reference can be formed, e.g. a log that starts in flight.
+  /// Builds the track of kind window, pressure, qnh or base, with the drift
+  /// correction; checkpoints and GNSS are fitted afterwards by the caller
+  /// (they need the model).
   Reference resolve(bool end_of_input, std::string_view source);
   /// After resolve(): whether fed sample i lies in the window.
   bool in_window(std::size_t i) const { return i < window_end_; }
@@ -81,7 +164,15 @@ class ReferenceResolver {
   bool needs_temperature_ = false;
   bool has_temperature_column_ = false;
   bool needs_window_ = false;
+  void build_base_track(Reference& ref, const std::vector<RestSample>& window,
+                        std::string_view source);
+  void build_drift_track(Reference& ref, const std::vector<RestSample>& window,
+                         std::string_view source);
+
   StationaryDetector detector_;
+  std::shared_ptr<const BaseSeries> base_;
+  BaseReport base_report_;
+  std::optional<RestSegment> landing_;
   std::vector<double> temperatures_;
   std::vector<TimeNs> times_;
   std::vector<double> pressures_;

@@ -21,11 +21,13 @@ enum class ErrorTerm : std::uint8_t {
   kReference,         ///< --sigma-ref: error of the reference pressure
   kTemperature,       ///< --sigma-t: error of the temperature the model uses
   kTemperatureModel,  ///< --sigma-t-model: real atmosphere vs the standard one
+  kDrift,             ///< --drift-sigma: ground-pressure drift since the reference was valid
   kCount
 };
 inline constexpr std::size_t kErrorTermCount = static_cast<std::size_t>(ErrorTerm::kCount);
 
-/// Option-style names: "sigma_p", "sigma_ref", "sigma_t", "sigma_t_model".
+/// Option-style names: "sigma_p", "sigma_ref", "sigma_t", "sigma_t_model",
+/// "drift_sigma".
 std::string_view error_term_name(ErrorTerm term);
 
 struct ErrorBudgetOptions {
@@ -34,6 +36,7 @@ struct ErrorBudgetOptions {
   double sigma_ref_pa = 10.0;       ///< 0.10 hPa
   double sigma_t_k = 0.5;           ///< 0.5 K
   double sigma_t_model_k = 5.0;     ///< 5 K
+  double drift_sigma_pa_per_s = 50.0 / 3600.0;  ///< 0.5 hPa per hour
   double confidence = 0.95;         ///< two-sided coverage of the band
 };
 
@@ -46,7 +49,10 @@ class ErrorBudget {
  public:
   explicit ErrorBudget(const ErrorBudgetOptions& options);
   /// 1-sigma contributions of each term for one evaluated sample.
-  HeightSigma evaluate(const HeightEval& eval) const;
+  /// `reference_age_s`: time since the reference pressure was last known
+  /// for this sample (e.g. beyond the end of a base-station log); the drift
+  /// term grows linearly with it.
+  HeightSigma evaluate(const HeightEval& eval, double reference_age_s = 0.0) const;
   /// Half-width of the band = coverage factor k * total sigma.
   double coverage_factor() const { return k_; }
   const ErrorBudgetOptions& options() const { return options_; }

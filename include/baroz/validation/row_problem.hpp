@@ -28,6 +28,7 @@ enum class RejectReason : std::uint8_t {
   kBadEncoding,
   kNoTemperature,     ///< the model needs this row's temperature and it is missing
   kOutsideModel,      ///< the model cannot give a height for this pressure
+  kOutsideBase,       ///< no base-station pressure at this time (--outside-base reject)
   kCount
 };
 
