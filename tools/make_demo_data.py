@@ -28,6 +28,11 @@ temperature T_M(H) at the geopotential height H = r0 z / (r0 + z). The
 Kestrel-2 balloon flies a moist, non-standard atmosphere: there T is replaced
 by the virtual temperature T_v(z, p) = T / [1 - (e/p)(1 - eps)] with
 e = RH/100 f(p) e_w(T) (WMO-No. 8 Magnus over water and enhancement factor).
+The Harrow Rise survey has a ground pressure that changes with time (a
+synoptic fall plus micro-barometric waves) under a slowly warming column; the
+drone's pressure is the pad pressure times the column ratio p(h)/p_pad, read
+from two RK4 tables interpolated in 1/T_pad, and a base station on a clock
+47.6 s behind the flight log records the same pad pressure moved up 4 m.
 
 References
   U.S. Standard Atmosphere, 1976, NOAA-S/T 76-1562: constants g0, R*, M0, r0
@@ -1063,6 +1068,331 @@ def damaged_doc_comment(bad: list[dict]) -> str:
 
 
 # ---------------------------------------------------------------------------
+# Scenario 5: Harrow Rise quarry-face survey (drifting ground pressure, base
+# station with an offset clock)
+# ---------------------------------------------------------------------------
+HARROW_START = epoch(2026, 10, 14, 9, 12, 0)
+HARROW_Z = 187.0                  # m MSL, the take-off and landing pad
+HARROW_LAT = 53.3                 # deg N: the truth uses WGS 84 normal gravity here
+HARROW_LAPSE = 0.0065             # K per geometric metre
+HARROW_T_PAD_MID = 11.5 + KELVIN  # K, air temperature at the pad at mid-flight
+HARROW_WARMING = 0.4 / 3600.0     # K/s, slow warming of the whole column
+HARROW_P_LAUNCH = 100340.0        # Pa, synoptic ground pressure at launch
+HARROW_FALL = 150.0               # Pa, synoptic fall from launch to landing
+HARROW_FALL_CURVATURE = 0.4       # shape of the fall: s(x) = (1 - c) x + c x^2
+# Micro-barometric waves, common to the pad, the drone and the base station:
+# (period s, amplitude Pa, phase rad at the flight log's first row).
+HARROW_MICROBAROM = ((95.0, 3.0, 0.7), (170.0, 4.0, 2.1), (310.0, 5.0, 4.4))
+HARROW_LANES = (20.0, 35.0, 50.0, 65.0, 80.0, 95.0)  # m above the pad
+HARROW_SENSOR_OFFSET = 35.0       # Pa, the flight barometer reads high
+HARROW_SENSOR_SIGMA = 2.0         # Pa
+HARROW_BASE_HEIGHT = 4.0          # m, the base sensor above the pad
+HARROW_BASE_SIGMA = 1.5           # Pa
+HARROW_BASE_CLOCK_OFFSET = 47.6   # s: base unix_time + 47.6 s = the flight log's clock
+HARROW_BASE_INTERVAL = 2.0        # s, on the base logger's clock
+HARROW_BASE_FIRST = -527.7        # s, first base tick (base clock) after HARROW_START
+HARROW_BASE_MARGIN = 480.0        # s, base coverage before and after the flight log
+HARROW_GNSS_TAU = 60.0            # s, Gauss-Markov correlation time of the GNSS error
+HARROW_GNSS_SIGMA = 2.5           # m, its standard deviation
+HARROW_GNSS_WHITE = 0.5           # m, white GNSS noise
+HARROW_TABLE_T = (11.1 + KELVIN, 11.9 + KELVIN)   # pad temperatures of the two tables
+HARROW_TABLE_P = 100000.0         # Pa, nominal pad pressure of the ratio tables
+
+
+def harrow_gravity(z: float) -> float:
+    return wgs84_gravity(HARROW_LAT, z)
+
+
+def harrow_column(t_pad: float, dz: float) -> HydrostaticColumn:
+    """Column of the survey day for pad temperature t_pad (K): T(z) = t_pad -
+    0.0065 K/m (z - 187 m), WGS 84 normal gravity at 53.3 N, from the nominal
+    pad pressure, 137 ... 337 m MSL."""
+    return HydrostaticColumn(lambda z: t_pad - HARROW_LAPSE * (z - HARROW_Z), HARROW_Z,
+                             HARROW_TABLE_P, HARROW_Z + 150.0, dz, z_bottom=HARROW_Z - 50.0,
+                             gravity_of=harrow_gravity)
+
+
+class HarrowAtmosphere:
+    """ln(p(h) / p_pad) of the survey day at height h (m above the pad) for a
+    pad temperature T_pad that warms slowly with time. The hydrostatic
+    equation is linear in p, so the ratio does not depend on p_pad; two RK4
+    tables at pad temperatures bracketing the day are interpolated linearly in
+    1/T_pad (the error of that is measured against direct tables in --report)."""
+
+    def __init__(self, dz: float):
+        self.cols = [harrow_column(tg, dz) for tg in HARROW_TABLE_T]
+        self.u = [1.0 / tg for tg in HARROW_TABLE_T]
+        self.ln_p0 = math.log(HARROW_TABLE_P)
+        self.gm_r = harrow_gravity(HARROW_Z) * M0 / RSTAR
+
+    def ln_ratio(self, h: float, t_pad: float) -> float:
+        if not HARROW_TABLE_T[0] <= t_pad <= HARROW_TABLE_T[1]:
+            raise ValueError(f"pad temperature {t_pad} K outside the tables")
+        w = (1.0 / t_pad - self.u[0]) / (self.u[1] - self.u[0])
+        a = math.log(self.cols[0].pressure(HARROW_Z + h)) - self.ln_p0
+        b = math.log(self.cols[1].pressure(HARROW_Z + h)) - self.ln_p0
+        return a + w * (b - a)
+
+    def height(self, ln_ratio: float, t_pad: float) -> float:
+        """Inverse of ln_ratio (Newton; d ln p/dh = -g M0 / (R* T))."""
+        h = -ln_ratio * t_pad / self.gm_r
+        for _ in range(50):
+            dh = (self.ln_ratio(h, t_pad) - ln_ratio) * (t_pad - HARROW_LAPSE * h) / self.gm_r
+            h += dh
+            if abs(dh) < 1e-10:
+                return h
+        raise AssertionError("harrow height inversion did not converge")
+
+
+def harrow_timeline() -> tuple[Timeline, list[tuple[float, float, float]]]:
+    """Height above the pad: 3 min on the pad, climb at 2 m/s to 25 m, six
+    lanes along the face 20 ... 95 m (15 m apart, a hover at each end), descent
+    and landing on the pad, 3 min on the pad."""
+    rng = random.Random(5501)
+    tl = Timeline()
+    tl.hold(180.0)
+    tl.mark("launch")
+    tl.move(25.0, 2.0, 0.8)
+    tl.mark("climb_done")
+    tl.hold(20.0)                              # link and camera checks at 25 m
+    tl.move(HARROW_LANES[0], 1.0, 0.5)
+    lanes = []
+    for k, level in enumerate(HARROW_LANES):
+        if k:
+            tl.move(level, 1.5, 0.5)           # up to the next bench
+        tl.hold(12.0 * rng.uniform(0.8, 1.2))  # hover: camera pitch, lane start
+        t0 = tl.t
+        tl.hold(rng.uniform(355.0, 385.0))     # the lane along the face, height held
+        lanes.append((level, t0, tl.t))
+        tl.hold(10.0 * rng.uniform(0.8, 1.2))  # hover at the lane's end
+    tl.mark("survey_done")
+    tl.move(5.0, 2.5, 0.8)
+    tl.hold(6.0)
+    tl.move(0.0, 0.6, 0.3)
+    tl.mark("landing")
+    tl.hold(180.0)
+    return tl, lanes
+
+
+def make_harrow(w: Writer, report: dict) -> dict:
+    atm = HarrowAtmosphere(0.1)
+    study = numerical_study(atm.cols[0], harrow_column(HARROW_TABLE_T[0], 0.05))
+    # interpolation in 1/T_pad against direct tables
+    worst = 0.0
+    for t_c in (11.3, 11.5, 11.7):
+        direct = harrow_column(t_c + KELVIN, 0.1)
+        for j in range(0, 541):
+            h = -50.0 + 0.37 * j
+            exact = math.log(direct.pressure(HARROW_Z + h)) - atm.ln_p0
+            worst = max(worst, abs(atm.ln_ratio(h, t_c + KELVIN) - exact))
+    study["t_interp_max_rel_p"] = worst
+    study["t_interp_max_abs_z_m"] = worst * HARROW_T_PAD_MID / atm.gm_r
+    if study["halving_max_rel_p"] > 1e-10 or study["t_interp_max_rel_p"] > 1e-9:
+        raise AssertionError(f"harrow numerical study out of bounds: {study}")
+    report["harrow_rise_column"] = study
+
+    tl, lanes = harrow_timeline()
+    t_l, t_d = tl.marks["launch"], tl.marks["landing"]
+    if t_d - t_l < 2400.0:
+        raise AssertionError("harrow flight shorter than 40 min")
+    t_mid = 0.5 * (t_l + t_d)
+    n = int(math.floor(tl.t + 1e-9)) + 1
+    t_last = float(n - 1)
+
+    def t_pad(t: float) -> float:
+        """Air temperature (K) at the pad at flight-clock time t (s after the log start)."""
+        return HARROW_T_PAD_MID + HARROW_WARMING * (t - t_mid)
+
+    def p_synoptic(t: float) -> float:
+        x = (t - t_l) / (t_d - t_l)
+        c = HARROW_FALL_CURVATURE
+        return HARROW_P_LAUNCH - HARROW_FALL * ((1.0 - c) * x + c * x * x)
+
+    def p_micro(t: float) -> float:
+        return sum(a * math.sin(2.0 * math.pi * t / per + ph) for per, a, ph in HARROW_MICROBAROM)
+
+    def p_ground(t: float) -> float:
+        """True pressure (Pa) at the pad at flight-clock time t."""
+        return p_synoptic(t) + p_micro(t)
+
+    # --- flight log (1 Hz) and its truth
+    rng_p = random.Random(5502)
+    rng_t = random.Random(5503)
+    rng_gm = random.Random(5504)
+    rng_gw = random.Random(5505)
+    phi = math.exp(-1.0 / HARROW_GNSS_TAU)
+    gm_step = HARROW_GNSS_SIGMA * math.sqrt(1.0 - phi * phi)
+    gm = rng_gm.gauss(0.0, HARROW_GNSS_SIGMA)   # stationary start
+    log = io.StringIO(newline="")
+    truth = io.StringIO(newline="")
+    log.write("time,pressure_hpa,temp_c,gnss_alt_m\n")
+    truth.write("time,true_height_m,ground_pressure_hpa,true_pressure_hpa,true_temperature_c\n")
+    rows = []                                   # (t, h, p_drone)
+    for i in range(n):
+        t = float(i)
+        if i:
+            gm = phi * gm + gm_step * rng_gm.gauss(0.0, 1.0)
+        h = tl.height(t)
+        tp = t_pad(t)
+        pg = p_ground(t)
+        p = pg * math.exp(atm.ln_ratio(h, tp))
+        ta = tp - HARROW_LAPSE * h
+        stamp = utc_string(HARROW_START + t, 3)
+        p_log = p + HARROW_SENSOR_OFFSET + rng_p.gauss(0.0, HARROW_SENSOR_SIGMA)
+        temp = ta - KELVIN + rng_t.gauss(0.0, 0.1)
+        gnss = HARROW_Z + h + gm + rng_gw.gauss(0.0, HARROW_GNSS_WHITE)
+        log.write(f"{stamp},{fmt(p_log / 100.0, 2)},{fmt(temp, 1)},{fmt(gnss, 1)}\n")
+        truth.write(f"{stamp},{fmt(h, 3)},{fmt(pg / 100.0, 4)},{fmt(p / 100.0, 4)},"
+                    f"{fmt(ta - KELVIN, 3)}\n")
+        rows.append((t, h, p))
+    w.put("harrow_rise_survey.csv", log.getvalue().encode("utf-8"), n)
+    w.put("truth/harrow_rise_truth.csv", truth.getvalue().encode("utf-8"), n)
+
+    # --- base station (every 2 s on its own clock, 47.6 s behind the flight log)
+    rng_bp = random.Random(5506)
+    rng_bt = random.Random(5507)
+    n_base = int(math.floor((t_last + HARROW_BASE_MARGIN - HARROW_BASE_CLOCK_OFFSET
+                             - HARROW_BASE_FIRST) / HARROW_BASE_INTERVAL + 1e-9)) + 1
+    base = io.StringIO(newline="")
+    base.write("unix_time,baro_pa,air_temp_k\n")
+    base_true = []                              # (flight-clock t, true pad pressure)
+    for k in range(n_base):
+        u = HARROW_BASE_FIRST + HARROW_BASE_INTERVAL * k     # base clock, s after HARROW_START
+        t = u + HARROW_BASE_CLOCK_OFFSET                     # the same instant on the flight clock
+        tp = t_pad(t)
+        pb = p_ground(t) * math.exp(atm.ln_ratio(HARROW_BASE_HEIGHT, tp))
+        p_log = int(round(pb + rng_bp.gauss(0.0, HARROW_BASE_SIGMA)))
+        tb = tp - HARROW_LAPSE * HARROW_BASE_HEIGHT + rng_bt.gauss(0.0, 0.05)
+        base.write(f"{fmt(HARROW_START + u, 1)},{p_log},{fmt(tb, 1)}\n")
+        base_true.append((t, p_ground(t)))
+    w.put("harrow_rise_base.csv", base.getvalue().encode("utf-8"), n_base)
+
+    # --- what the references would give, from the truth (noise-free)
+    pre = [r for r in rows if r[0] < t_l]
+    post = [r for r in rows if r[0] > t_d]
+    p_pre = sum(p_ground(r[0]) for r in pre) / len(pre)
+    t_pre = sum(r[0] for r in pre) / len(pre)
+    p_post = sum(p_ground(r[0]) for r in post) / len(post)
+    t_post = sum(r[0] for r in post) / len(post)
+    flight = [r for r in rows if t_l <= r[0] <= t_d]
+    bt = [b[0] for b in base_true]
+
+    def base_at(t: float) -> float:
+        i = bisect.bisect_right(bt, t) - 1
+        (t0, p0), (t1, p1) = base_true[i], base_true[i + 1]
+        return p0 + (p1 - p0) * (t - t0) / (t1 - t0)
+
+    def worst_error(ref_of) -> dict:
+        worst_e, worst_t = 0.0, 0.0
+        for (t, h, p) in flight:
+            e = atm.height(math.log(p / ref_of(t)), t_pad(t)) - h
+            if abs(e) > abs(worst_e):
+                worst_e, worst_t = e, t
+        t, h, p = flight[-1]
+        e_end = atm.height(math.log(p / ref_of(t)), t_pad(t)) - h
+        return {"max_abs_error_m": round(abs(worst_e), 3),
+                "signed_error_at_max_m": round(worst_e, 3),
+                "time_of_max": utc_string(HARROW_START + worst_t, 3),
+                "elapsed_of_max_s": worst_t, "error_at_last_flight_row_m": round(e_end, 3)}
+
+    def linear_ref(ta: float, pa: float, tb: float, pb: float):
+        return lambda t: pa + (pb - pa) * (t - ta) / (tb - ta)
+
+    errors = {
+        "note": "heights from the true (noise-free) drone pressure with the true atmosphere of "
+                "the day; only the ground reference differs; rows from launch to landing",
+        "constant_pre_launch_mean": worst_error(lambda t: p_pre),
+        "linear_drift_pre_post_means": worst_error(linear_ref(t_pre, p_pre, t_post, p_post)),
+        "linear_drift_launch_landing": worst_error(
+            linear_ref(t_l, p_ground(t_l), t_d, p_ground(t_d))),
+        "base_offset_47_6_s": worst_error(base_at),
+        "base_offset_0_s": worst_error(lambda t: base_at(t + HARROW_BASE_CLOCK_OFFSET)),
+    }
+    tp_l = t_pad(t_l)
+    # the flight sensor reads 35 Pa high: referenced to the true pad pressure
+    # (a base with no tie) it puts the drone this much too high (negative: low)
+    sensor_offset_m = atm.height(math.log((p_ground(t_l) + HARROW_SENSOR_OFFSET) / p_ground(t_l)),
+                                 tp_l)
+    base_deficit = p_ground(t_l) * (1.0 - math.exp(atm.ln_ratio(HARROW_BASE_HEIGHT, tp_l)))
+    errors["sensor_offset_as_height_m"] = round(sensor_offset_m, 3)
+    errors["base_height_ignored_error_m"] = -HARROW_BASE_HEIGHT
+    report["harrow_rise"] = errors
+
+    def at(t: float) -> dict:
+        return {"time": utc_string(HARROW_START + t, 3), "elapsed_s": round(t, 3)}
+
+    base_u0 = HARROW_START + HARROW_BASE_FIRST
+    base_u1 = base_u0 + HARROW_BASE_INTERVAL * (n_base - 1)
+    info = {
+        "generator": "tools/make_demo_data.py",
+        "scenario": "Harrow Rise quarry-face survey, multirotor Tern-4 (invented)",
+        "flight_log": "demo_data/harrow_rise_survey.csv",
+        "base_log": "demo_data/harrow_rise_base.csv",
+        "log_start_time": utc_string(HARROW_START, 3),
+        "log_end_time": utc_string(HARROW_START + t_last, 3),
+        "rows": n, "interval_s": 1.0, "duration_s": t_last,
+        "pad_elevation_m": HARROW_Z, "latitude_deg": HARROW_LAT,
+        "gravity": "WGS 84 normal gravity at 53.3 N, TR8350.2 eqs. 4-1 and 4-3",
+        "launch_time": utc_string(HARROW_START + t_l, 3), "launch_elapsed_s": t_l,
+        "landing_time": utc_string(HARROW_START + t_d, 3), "landing_elapsed_s": round(t_d, 3),
+        "flight_duration_s": round(t_d - t_l, 3),
+        "climb_to_25m_done_elapsed_s": round(tl.marks["climb_done"], 3),
+        "survey_done_elapsed_s": round(tl.marks["survey_done"], 3),
+        "max_height_m": max(HARROW_LANES),
+        "lanes": [{"height_m": lv, "start": at(a), "end": at(b)} for (lv, a, b) in lanes],
+        "base_clock_offset_s": HARROW_BASE_CLOCK_OFFSET,
+        "base_clock_offset_meaning": "base unix_time + 47.6 s = flight-log clock "
+                                     "(baroz --base-offset +47.6)",
+        "flight_sensor_offset_hpa": HARROW_SENSOR_OFFSET / 100.0,
+        "flight_sensor_noise_pa": HARROW_SENSOR_SIGMA,
+        "base_height_above_pad_m": HARROW_BASE_HEIGHT,
+        "base_sensor_offset_hpa": 0.0,
+        "base_noise_pa": HARROW_BASE_SIGMA,
+        "base_rows": n_base, "base_interval_s": HARROW_BASE_INTERVAL,
+        "base_first_unix_time": round(base_u0, 1), "base_last_unix_time": round(base_u1, 1),
+        "base_first_time_flight_clock": utc_string(base_u0 + HARROW_BASE_CLOCK_OFFSET, 1),
+        "base_last_time_flight_clock": utc_string(base_u1 + HARROW_BASE_CLOCK_OFFSET, 1),
+        "base_minus_pad_pressure_at_launch_pa": round(-base_deficit, 3),
+        "pre_launch_flight_minus_base_pa": round(HARROW_SENSOR_OFFSET + sum(
+            p_ground(r[0]) * (1.0 - math.exp(atm.ln_ratio(HARROW_BASE_HEIGHT, t_pad(r[0]))))
+            for r in pre) / len(pre), 3),
+        "ground_pressure_at_launch_hpa": round(p_ground(t_l) / 100.0, 4),
+        "ground_pressure_at_landing_hpa": round(p_ground(t_d) / 100.0, 4),
+        "ground_drift_hpa": round((p_synoptic(t_d) - p_synoptic(t_l)) / 100.0, 4),
+        "ground_drift_with_microbarom_hpa": round((p_ground(t_d) - p_ground(t_l)) / 100.0, 4),
+        "pre_launch_mean_ground_pressure_hpa": round(p_pre / 100.0, 4),
+        "pre_launch_rows_elapsed_s": [pre[0][0], pre[-1][0]],
+        "post_landing_mean_ground_pressure_hpa": round(p_post / 100.0, 4),
+        "post_landing_rows_elapsed_s": [post[0][0], post[-1][0]],
+        "pre_to_post_mean_drift_hpa": round((p_post - p_pre) / 100.0, 4),
+        "ground_pressure_model": {
+            "synoptic": f"p = {fmt(HARROW_P_LAUNCH / 100.0, 2)} hPa - "
+                        f"{fmt(HARROW_FALL / 100.0, 2)} hPa ((1 - c) x + c x^2), "
+                        f"x = (t - launch) / (landing - launch), c = {HARROW_FALL_CURVATURE}: "
+                        "a fall that speeds up",
+            "synoptic_launch_hpa": HARROW_P_LAUNCH / 100.0,
+            "synoptic_fall_hpa": HARROW_FALL / 100.0,
+            "curvature": HARROW_FALL_CURVATURE,
+            "microbarom": [{"period_s": per, "amplitude_pa": a, "phase_rad": ph}
+                           for per, a, ph in HARROW_MICROBAROM],
+            "microbarom_phase_origin": utc_string(HARROW_START, 3),
+        },
+        "temperature": {
+            "pad_c_at_mid_flight": round(HARROW_T_PAD_MID - KELVIN, 3),
+            "warming_k_per_h": round(HARROW_WARMING * 3600.0, 3),
+            "mid_flight_elapsed_s": round(t_mid, 3),
+            "lapse_rate_k_per_m": HARROW_LAPSE,
+        },
+        "gnss_error": {"gauss_markov_tau_s": HARROW_GNSS_TAU,
+                       "gauss_markov_sigma_m": HARROW_GNSS_SIGMA,
+                       "white_sigma_m": HARROW_GNSS_WHITE},
+        "reference_errors": errors,
+    }
+    w.put("truth/harrow_rise_truth.json", (json.dumps(info, indent=2) + "\n").encode("utf-8"))
+    return info
+
+
+# ---------------------------------------------------------------------------
 # Driver
 # ---------------------------------------------------------------------------
 def generate(report: dict) -> Writer:
@@ -1096,6 +1426,7 @@ def generate(report: dict) -> Writer:
         "damaged_logger": make_damaged(w),
     }
     w.put("truth/events.json", (json.dumps(events, indent=2) + "\n").encode("utf-8"))
+    make_harrow(w, report)      # own truth JSON: events.json is left as it was
     return w
 
 
@@ -1117,7 +1448,8 @@ def main(argv: list[str]) -> int:
     ap.add_argument("--check", action="store_true",
                     help="regenerate into a temporary directory and compare byte for byte "
                          "with the files in --out; exit 1 if different")
-    ap.add_argument("--report", action="store_true", help="print the numerical error study")
+    ap.add_argument("--report", action="store_true",
+                    help="print the numerical error study and the Harrow Rise reference errors")
     ap.add_argument("--doc-comment", action="store_true",
                     help="print the first line that docs/demo-data.md must have")
     args = ap.parse_args(argv)
