@@ -176,6 +176,7 @@ void write_reference(JsonWriter& j, const HeightReport& r) {
     j.key("below_m"); j.value(g.below_m);
     j.key("pairs"); j.value(static_cast<std::uint64_t>(g.pairs));
     j.key("spread_m"); j.value(g.spread_m);
+    j.key("effective_pairs"); j.value(g.effective_pairs);
     j.key("standard_error_m"); j.value(g.standard_error_m);
     j.end_object();
   }

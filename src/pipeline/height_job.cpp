@@ -325,13 +325,13 @@ void HeightJob::fit_checkpoints_and_gnss() {
             : geopotential_from_geometric(elevation_m_);
     diag_.note(src, fmt::format("GNSS fit (--ref-gnss): the launch point is at {:.2f} m above "
                                 "MSL (median of {} differences GNSS - height below {:.0f} m{}; "
-                                "spread {:.2f} m, standard error >= {:.2f} m); altitude_m uses "
-                                "it, the heights stay barometric",
+                                "spread {:.2f} m, standard error {:.2f} m with ~{:.0f} independent "
+                                "differences); altitude_m uses it, the heights stay barometric",
                                 fit.datum_m, fit.pairs, ro.gnss_below_m,
                                 survey_->gnss_stride > 1
                                     ? fmt::format(", every {}th sample", survey_->gnss_stride)
                                     : std::string(),
-                                fit.spread_m, fit.standard_error_m));
+                                fit.spread_m, fit.standard_error_m, fit.effective_pairs));
     reference_.gnss = fit;
   }
 }

@@ -346,8 +346,8 @@ void ReferenceResolver::build_drift_track(Reference& ref, const std::vector<Rest
           : std::string(", landing taken at the launch level: give --landing-height H if it "
                         "landed elsewhere"),
       rate_hpa_h));
-  // Common practice: synoptic tendencies beyond ~3 hPa in 3 h are "rapid";
-  // a larger apparent drift more likely means a landing at another height.
+  // Common practice: a synoptic tendency of 3 hPa in 3 h already counts as
+  // rapid; 3 hPa in one hour more likely means a landing at another height.
   if (std::fabs(rate_hpa_h) > 3.0)
     ref.notes.push_back(fmt::format(
         "drift linear: {:+.2f} hPa/h is unusually fast for the weather; if the flight landed "
