@@ -24,6 +24,7 @@
 #include "analysis_output.hpp"
 #include "cli_common.hpp"
 #include "pipeline_args.hpp"
+#include "rerun.hpp"
 
 namespace baroz::cli {
 namespace {
@@ -42,6 +43,7 @@ struct HeightArgs {
   bool line_buffered = false;
   bool quiet = false;
   int jobs = 0;
+  std::string rerun;  ///< --rerun MANIFEST
 };
 
 int parse_decimals(const std::string& text, const std::string& spec) {
@@ -295,8 +297,20 @@ void add_height_command(CLI::App& app, const Streams& streams, int& status,
   cmd->add_flag("-q,--quiet", a.quiet, "No notes on stderr (problems and counts remain)")
       ->group("Messages");
 
-  cmd->callback([args, &streams, &status, &arguments] {
-    status = run_height(*args, streams, arguments);
+  CLI::Option* rerun_option =
+      cmd->add_option("--rerun", a.rerun,
+                      "Repeat the run recorded in MANIFEST (written by --manifest) with only "
+                      "the options given here changed; every input read again is first "
+                      "checked against its recorded SHA-256 (exit 2 when missing or changed); "
+                      "the recorded outputs are not written again: the series goes to "
+                      "standard output unless -o is given")
+          ->type_name("MANIFEST")->group("Re-run");
+
+  cmd->callback([args, cmd, rerun_option, &streams, &status, &arguments] {
+    if (rerun_option->count() > 0)
+      status = rerun_height(*cmd, args->rerun, arguments, streams);
+    else
+      status = run_height(*args, streams, arguments);
   });
 }
 
