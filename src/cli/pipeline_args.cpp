@@ -251,7 +251,7 @@ void add_pipeline_options(CLI::App& app, PipelineArgs& a) {
                   "Site elevation above MSL (e.g. 412m, 1350ft): adds altitude_m")
       ->type_name("H")->group("Reference");
   app.add_option("--ref-temperature", a.ref_temperature,
-                  "Reference temperature for isothermal (bare K, or 15C); default: mean of "
+                  "Reference temperature for isothermal and for moving a base station's pressure (bare K, or 15C); default: mean of "
                   "the reference window, else 288.15 K")
       ->type_name("T")->group("Reference");
 

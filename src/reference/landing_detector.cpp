@@ -3,6 +3,8 @@
 #include <algorithm>
 #include <cmath>
 
+#include <fmt/format.h>
+
 namespace baroz {
 
 TimeNs RestSegment::mean_time_ns() const {
@@ -41,6 +43,7 @@ RestSegment LandingDetector::finish() const {
   if (!det.result().decided) det.finish();
   const StationaryResult& r = det.result();
   seg.found = r.launch_found;
+  if (!r.launch_found) seg.why = "the log's tail is at rest throughout (no flight before it)";
   seg.samples = r.window_end;
   if (r.window_end == 0) return seg;
   // Detector index i is ring position n - 1 - i.
@@ -56,6 +59,41 @@ RestSegment LandingDetector::finish() const {
   double ss = 0.0;
   for (const auto& s : seg.used) ss += (s.pressure_pa - seg.pressure_pa) * (s.pressure_pa - seg.pressure_pa);
   seg.pressure_sd_pa = seg.used.size() > 1 ? std::sqrt(ss / static_cast<double>(seg.used.size() - 1)) : 0.0;
+  if (!seg.found) return seg;
+  // A real rest lasts, and stays put: the least-squares slope of its
+  // pressure must not exceed what weather does (kMaxRestRatePaPerS, beyond
+  // 3 standard errors of the slope), or a slow climb or descent at the log's
+  // end would look like a rest.
+  const double duration = static_cast<double>(seg.end_ns - seg.start_ns) * 1e-9;
+  const auto m = static_cast<double>(seg.used.size());
+  double tbar = 0.0;
+  for (const auto& s : seg.used) tbar += static_cast<double>(s.time_ns - seg.start_ns) * 1e-9;
+  tbar /= m;
+  double stt = 0.0, stp = 0.0;
+  for (const auto& s : seg.used) {
+    const double t = static_cast<double>(s.time_ns - seg.start_ns) * 1e-9 - tbar;
+    stt += t * t;
+    stp += t * (s.pressure_pa - seg.pressure_pa);
+  }
+  const double slope = stt > 0.0 ? stp / stt : 0.0;
+  double rss = 0.0;
+  for (const auto& s : seg.used) {
+    const double t = static_cast<double>(s.time_ns - seg.start_ns) * 1e-9 - tbar;
+    const double resid = s.pressure_pa - seg.pressure_pa - slope * t;
+    rss += resid * resid;
+  }
+  const double slope_se = m > 2.0 && stt > 0.0 ? std::sqrt(rss / (m - 2.0) / stt) : 0.0;
+  if (duration < kMinRestS || seg.used.size() < options_.min_samples) {
+    seg.found = false;
+    seg.why = fmt::format("the rest at the log's end lasts {:.1f} s ({} samples); at least {:.0f} s "
+                          "needed (does the log end in flight?)",
+                          duration, seg.used.size(), kMinRestS);
+  } else if (std::fabs(slope) > kMaxRestRatePaPerS + 3.0 * slope_se) {
+    seg.found = false;
+    seg.why = fmt::format("the pressure still changes by {:+.1f} hPa/h over the {:.1f} s at the "
+                          "log's end, faster than weather (does the log end in flight?)",
+                          slope * 36.0, duration);
+  }
   return seg;
 }
 

@@ -312,10 +312,12 @@ void ReferenceResolver::build_drift_track(Reference& ref, const std::vector<Rest
   const RestSegment& land = *landing_;
   if (!land.found || land.used.empty() || !ref.window || !ref.window->launch_found)
     throw input_error(fmt::format(
-        "{}: --drift linear: no {} found (the log must rest on the ground before the launch "
-        "and after the landing)",
-        source, ref.window && ref.window->launch_found ? "stationary post-landing segment"
-                                                       : "flight between two resting segments"));
+        "{}: --drift linear: no {} found ({}; the log must rest on the ground before the "
+        "launch and after the landing)",
+        source,
+        ref.window && ref.window->launch_found ? "stationary post-landing segment"
+                                               : "flight between two resting segments",
+        land.why.empty() ? std::string("no launch in the log") : land.why));
   if (land.start_ns <= ref.window->launch_ns)
     throw input_error(fmt::format("{}: --drift linear: the post-landing segment starts before "
                                   "the launch",
