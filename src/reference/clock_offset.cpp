@@ -85,29 +85,8 @@ ClockOffsetEstimate estimate_clock_offset(std::span<const std::span<const RestSa
     est.why = "the best match lies at the end of the offsets the base log's span allows";
     return est;
   }
-  // Golden-section refinement within the neighbouring grid points.
-  double a = lo + static_cast<double>(best - 1) * step, c = lo + static_cast<double>(best + 1) * step;
-  const double g = (std::sqrt(5.0) - 1.0) / 2.0;
-  double x1 = c - g * (c - a), x2 = a + g * (c - a);
-  double f1 = sse(x1), f2 = sse(x2);
-  while (c - a > 1e-3) {
-    if (f1 < f2) {
-      c = x2;
-      x2 = x1;
-      f2 = f1;
-      x1 = c - g * (c - a);
-      f1 = sse(x1);
-    } else {
-      a = x1;
-      x1 = x2;
-      f1 = f2;
-      x2 = a + g * (c - a);
-      f2 = sse(x2);
-    }
-  }
-  const double s_grid = (a + c) / 2.0;
+  const double s_grid = lo + static_cast<double>(best) * step;
   const auto dof = static_cast<double>(est.samples - est.segments - 1);
-  est.rms_pa = std::sqrt(sse(s_grid) / static_cast<double>(est.samples));
   // The sum is rough on the scale of the base interval (noise in the base
   // samples being interpolated), so its curvature and its minimum are taken
   // from a parabola fitted over a wider span +/- w, widened to 3 sigma.
@@ -156,6 +135,7 @@ ClockOffsetEstimate estimate_clock_offset(std::span<const std::span<const RestSa
   }
   const double s2 = std::max(f0 / dof, 1e-12);
   est.offset_s = s_hat;
+  est.rms_pa = std::sqrt(sse(s_hat) / static_cast<double>(est.samples));
   est.sigma_s = curvature > 0.0 && std::isfinite(curvature) ? std::sqrt(2.0 * s2 / curvature)
                                                             : std::numeric_limits<double>::infinity();
   if (!(est.sigma_s <= options.max_sigma_s)) {

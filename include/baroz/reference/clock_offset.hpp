@@ -8,9 +8,9 @@
 // e_i = p_flight(t_i) - k p_base(t_i - S) of each segment, minus their own mean
 // (the sensors' offset may differ between segments), are summed in squares;
 // S is the global minimum of that sum over every offset the base's span
-// allows (grid at half the base interval, golden-section refinement, then
-// the vertex of a parabola fitted over +/- 3 sigma, because the sum is rough
-// on the scale of the base interval). Its 1-sigma uncertainty comes from the
+// allows: a grid at half the base interval, then the vertex of a parabola
+// fitted over +/- 3 sigma around the best grid point (the sum is rough on the
+// scale of the base interval, from the base's own noise). Its 1-sigma uncertainty comes from the
 // parabola's curvature, var(S) = 2 s^2 / SSE''(S), s^2 the residual variance
 // (the Gauss-Newton covariance of a least-squares parameter). The estimate is
 // refused when it cannot be trusted: too few samples, the minimum at the end
