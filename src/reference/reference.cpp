@@ -6,6 +6,7 @@
 
 #include "baroz/core/constants.hpp"
 #include "baroz/core/error.hpp"
+#include "baroz/core/time.hpp"
 #include "baroz/models/geopotential.hpp"
 
 namespace baroz {
@@ -280,11 +281,19 @@ void ReferenceResolver::build_base_track(Reference& ref, const std::vector<RestS
       sum += s.pressure_pa - b.scale * v.pressure_pa;
       ++n;
     }
-    if (n == 0)
+    if (n == 0) {
+      // Times from 2001-09-09 on are dates (the decoder's rule for epoch numbers).
+      auto when = [](TimeNs t) {
+        return t >= 1'000'000'000'000'000'000 ? format_rfc3339_utc(t)
+                                              : fmt::format("{:.1f} s", static_cast<double>(t) * 1e-9);
+      };
       throw input_error(fmt::format(
-          "{}: the base log does not cover the reference window (base {:+.1f} s after "
-          "--base-offset); check --base-offset, or give --no-tie",
-          source, b.offset_s));
+          "{}: the base log ({} to {} on the flight's clock, with --base-offset {:+.1f} s) does "
+          "not cover the reference window ({} to {}); check --base-offset, or give --no-tie",
+          source, when(base_->first_ns() + shift), when(base_->last_ns() + shift), b.offset_s,
+          when(window.empty() ? 0 : window.front().time_ns),
+          when(window.empty() ? 0 : window.back().time_ns)));
+    }
     b.tie_pa = sum / static_cast<double>(n);
     b.tie_samples = n;
     ref.notes.push_back(fmt::format(
