@@ -40,6 +40,7 @@ struct HeightArgs {
   bool geopotential = false;
   bool vspeed = false;
   bool despike = false;
+  bool sigma_columns = false;
   bool line_buffered = false;
   bool quiet = false;
   int jobs = 0;
@@ -78,6 +79,7 @@ HeightOptions resolve_options(const HeightArgs& a) {
   s.geopotential = a.geopotential;
   o.vspeed = a.vspeed;
   o.despike = a.despike;
+  o.sigma_columns = a.sigma_columns;
   s.line_buffered = a.line_buffered;
   if (a.format == "ndjson") s.format = OutputFormat::kNdjson;
   else if (a.format == "csv") s.format = OutputFormat::kCsv;
@@ -270,6 +272,11 @@ void add_height_command(CLI::App& app, const Streams& streams, int& status,
       ->group("Output");
   cmd->add_flag("--vspeed", a.vspeed,
                 "Also write vspeed_mps, the vertical speed from a local fit of the height")
+      ->group("Output");
+  cmd->add_flag("--sigma-columns", a.sigma_columns,
+                "Also write one column per error-budget term: its 1-sigma contribution to the "
+                "height (sigma_p_m, sigma_p_abs_m, sigma_ref_m, sigma_t_m, sigma_t_random_m, "
+                "drift_sigma_m, sigma_t_model_m)")
       ->group("Output");
   cmd->add_flag("--despike", a.despike,
                 "Flag pressure spikes (rows kept, flag 'spike') with a Hampel filter")

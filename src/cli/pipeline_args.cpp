@@ -158,10 +158,32 @@ HeightOptions resolve_pipeline_options(const PipelineArgs& a) {
     if (!(value >= 0.0)) throw usage_error(fmt::format("{}: a sigma cannot be negative", option));
   };
   sigma(a.sigma_p, "--sigma-p", parse_pressure_option, b.sigma_p_pa);
-  sigma(a.sigma_ref, "--sigma-ref", parse_pressure_option, b.sigma_ref_pa);
+  sigma(a.sigma_p_abs, "--sigma-p-abs", parse_pressure_option, b.sigma_p_abs_pa);
+  if (!a.sigma_ref.empty()) {
+    double v = 0.0;
+    sigma(a.sigma_ref, "--sigma-ref", parse_pressure_option, v);
+    b.sigma_ref_pa = v;
+  }
   sigma(a.sigma_t, "--sigma-t", parse_temperature_difference_option, b.sigma_t_k);
+  sigma(a.sigma_t_random, "--sigma-t-random", parse_temperature_difference_option,
+        b.sigma_t_random_k);
   sigma(a.sigma_t_model, "--sigma-t-model", parse_temperature_difference_option,
         b.sigma_t_model_k);
+  if (!a.monte_carlo.empty()) {
+    const double n = parse_number_option(a.monte_carlo, "--monte-carlo");
+    if (!(n >= 10.0 && n <= 1e6 && n == std::floor(n)))
+      throw usage_error(fmt::format("--monte-carlo: \"{}\" is not a whole number of runs from 10 "
+                                    "to 1000000",
+                                    a.monte_carlo));
+    b.monte_carlo_runs = static_cast<std::size_t>(n);
+  }
+  if (!a.seed.empty()) {
+    if (a.monte_carlo.empty()) throw usage_error("--seed goes with --monte-carlo N");
+    const double v = parse_number_option(a.seed, "--seed");
+    if (!(v >= 0.0 && v < 9.0e15 && v == std::floor(v)))
+      throw usage_error(fmt::format("--seed: \"{}\" is not a whole number from 0", a.seed));
+    b.seed = static_cast<std::uint64_t>(v);
+  }
   if (!a.drift_sigma.empty()) {
     // Bare hPa per hour (the pinned default unit), returned in Pa/s.
     b.drift_sigma_pa_per_s = parse_drift_option(a.drift_sigma, "--drift-sigma");
@@ -298,25 +320,42 @@ void add_pipeline_options(CLI::App& app, PipelineArgs& a) {
                  "--ref-gnss: use the samples up to this height (default 1000 m)")
       ->type_name("H")->group("Reference");
 
-  app.add_option("--sigma-p", a.sigma_p, "1-sigma noise of each pressure sample (default 0.05 hPa)")
+  app.add_option("--sigma-p", a.sigma_p,
+                 "1-sigma random noise of each pressure sample (default 0.05 hPa)")
+      ->type_name("P")->group("Uncertainty");
+  app.add_option("--sigma-p-abs", a.sigma_p_abs,
+                 "1-sigma absolute offset of the sensor, common to the reference when it comes "
+                 "from the same sensor (default 0.5 hPa)")
       ->type_name("P")->group("Uncertainty");
   app.add_option("--sigma-ref", a.sigma_ref,
-                  "1-sigma error of the reference pressure (default 0.1 hPa)")
+                 "1-sigma error of the reference pressure itself (default 0.1 hPa for "
+                 "--ref-pressure and --qnh, the standard error of the window mean otherwise)")
       ->type_name("P")->group("Uncertainty");
   app.add_option("--sigma-t", a.sigma_t,
-                  "1-sigma error of the temperature the model uses (default 0.5 K)")
+                 "1-sigma systematic temperature bias (default 0.5 K): of the isothermal "
+                 "model's temperature, or of the whole measured profile")
+      ->type_name("K")->group("Uncertainty");
+  app.add_option("--sigma-t-random", a.sigma_t_random,
+                 "1-sigma random error of each temperature sample (default 0.2 K); averages "
+                 "within the reference window and the profile's layers")
       ->type_name("K")->group("Uncertainty");
   app.add_option("--sigma-t-model", a.sigma_t_model,
-                  "standard model: 1-sigma deviation of the real column temperature from the "
-                  "standard one (default 5 K)")
+                 "standard model: 1-sigma deviation of the real column temperature from the "
+                 "standard one (default 5 K)")
       ->type_name("K")->group("Uncertainty");
   app.add_option("--drift-sigma", a.drift_sigma,
-                 "1-sigma ground-pressure drift per hour where the reference is held (rows "
-                 "outside a base log; default 0.5 hPa/h)")
+                 "1-sigma ground-pressure drift per hour since the reference was taken (default "
+                 "0.5 hPa/h; reduced by --drift linear, the base's own noise with --ref-base)")
       ->type_name("P/h")->group("Uncertainty");
   app.add_option("--confidence", a.confidence,
                   "Two-sided confidence of the band (default 0.95)")
       ->type_name("P")->group("Uncertainty");
+  app.add_option("--monte-carlo", a.monte_carlo,
+                 "Band by sampling every term N times per row instead of linear propagation "
+                 "(a cross-check, and for very low pressures)")
+      ->type_name("N")->group("Uncertainty");
+  app.add_option("--seed", a.seed, "--monte-carlo: seed of the random numbers (default 1)")
+      ->type_name("S")->group("Uncertainty");
 
   app.add_option("--p-range", a.p_range,
                   "Accepted pressure range LOW:HIGH (default 0:1500 hPa, physical "

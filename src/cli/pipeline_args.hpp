@@ -26,7 +26,9 @@ struct PipelineArgs {
   std::vector<std::string> checkpoints;
   bool ref_gnss = false;
   std::string gnss_below;
-  std::string sigma_p, sigma_ref, sigma_t, sigma_t_model, drift_sigma, confidence;
+  std::string sigma_p, sigma_p_abs, sigma_ref, sigma_t, sigma_t_random, sigma_t_model, drift_sigma,
+      confidence;
+  std::string monte_carlo, seed;
   std::string p_range;
   std::string spike_window, vspeed_window;
   bool strict = false;

@@ -1,6 +1,7 @@
 #include "baroz/models/isothermal_model.hpp"
 
 #include <cmath>
+#include <cstdint>
 #include <limits>
 
 #include "baroz/core/constants.hpp"
@@ -92,6 +93,17 @@ HeightEval IsothermalModel::evaluate(double pressure_pa, double temperature_k,
     out.dh_dpref += datum_slope_ * (zprime_level - datum_factor_ * datum_factor_);
   }
   out.dh_dt = kRPerG0 * log_ratio * zprime_level;  // = (dH / T) Z'
+  // Random errors (GUM eq. 10): T_ref the mean of N samples (variance 1/N
+  // per unit sigma; N = 0: not measured, no random error).
+  const std::uint32_t n_ref = ref.temperature_samples;
+  const double ref_variance = n_ref > 0 ? 1.0 / static_cast<double>(n_ref) : 0.0;
+  if (temperature_ == IsothermalTemperature::kReference) {
+    out.dh_dt_random = std::fabs(out.dh_dt) * std::sqrt(ref_variance);
+  } else {
+    // T = (T_ref + T_sample)/2: each enters with dh_dt / 2; the sample is
+    // one sample (variance 1).
+    out.dh_dt_random = 0.5 * std::fabs(out.dh_dt) * std::sqrt(1.0 + ref_variance);
+  }
   out.dh_dtmodel = 0.0;
   return out;
 }

@@ -42,6 +42,7 @@ bool ProfileModel::update_reference(double p_ref_pa, double datum_geopotential_m
   ref_log_pressure_ = ref.log_pressure;
   ref_slope_ = kRPerG0 * ref.virtual_temperature_k / p_ref_pa;  // -dH/dp at p_ref (hydrostatic)
   ref_extrapolated_ = ref.extrapolated;
+  ref_point_ = ref;
   if (std::isnan(datum_geopotential_m)) {
     // The standard atmosphere only places the column in the gravity field.
     const ussa76::Level level = ussa76::level_at_pressure(p_ref_pa);
@@ -87,6 +88,10 @@ HeightEval ProfileModel::evaluate(double pressure_pa, double /*temperature_k*/,
   out.dh_dpref = ref_slope_ * zprime_level + datum_slope_ * (zprime_level - datum_zprime_);
   // A uniform offset dT of the profile adds (R/g0) dT ln(p_ref/p) to dH.
   out.dh_dt = kRPerG0 * (ref_log_pressure_ - point.log_pressure) * zprime_level;
+  // Independent random errors: (R/g0) sqrt(sum_i (W_i(p) - W_i(p_ref))^2 / n_i)
+  // (GUM eq. 10; the error in T passes to T_v with T_v/T ~ 1, taken as 1).
+  out.dh_dt_random =
+      kRPerG0 * std::sqrt(profile_.random_weight_sum(ref_point_, point)) * zprime_level;
   out.dh_dtmodel = 0.0;
   out.extrapolated = point.extrapolated || ref_extrapolated_;
   return out;

@@ -2,6 +2,8 @@
 
 #include <algorithm>
 #include <cmath>
+#include <cstdint>
+#include <limits>
 #include <utility>
 
 #include <fmt/format.h>
@@ -49,6 +51,10 @@ TemperatureProfile::TemperatureProfile(std::vector<ProfileNode> nodes, double co
           node.virtual_temperature_k, node.pressure_pa / 100.0, kMinTemperatureK,
           kMaxTemperatureK));
     }
+    if (node.samples == 0) {
+      throw input_error(fmt::format("temperature profile: the node at {:.4f} hPa has no sample",
+                                    node.pressure_pa / 100.0));
+    }
   }
   std::stable_sort(nodes.begin(), nodes.end(), [](const ProfileNode& a, const ProfileNode& b) {
     return a.pressure_pa > b.pressure_pa;
@@ -57,18 +63,28 @@ TemperatureProfile::TemperatureProfile(std::vector<ProfileNode> nodes, double co
   // their mean, so that every segment has a positive width in ln p.
   nodes_.reserve(nodes.size());
   log_p_.reserve(nodes.size());
+  inverse_samples_.reserve(nodes.size());
   for (std::size_t i = 0; i < nodes.size();) {
     const double log_p = std::log(nodes[i].pressure_pa);
     double sum_t = 0.0;
     double sum_tv = 0.0;
+    double sum_inverse_samples = 0.0;
     std::size_t j = i;
     for (; j < nodes.size() && std::log(nodes[j].pressure_pa) == log_p; ++j) {
       sum_t += nodes[j].temperature_k;
       sum_tv += nodes[j].virtual_temperature_k;
+      sum_inverse_samples += 1.0 / static_cast<double>(nodes[j].samples);
     }
     const auto count = static_cast<double>(j - i);
-    nodes_.push_back(ProfileNode{nodes[i].pressure_pa, sum_t / count, sum_tv / count});
+    // The mean of k temperatures of n_j samples each has the random
+    // variance sigma^2 sum_j (1/k)^2 / n_j: that of k^2 / sum(1/n_j) samples.
+    const double inverse_samples = sum_inverse_samples / (count * count);
+    constexpr double kMaxSamples = std::numeric_limits<std::uint32_t>::max();
+    const double samples = std::fmin(std::round(1.0 / inverse_samples), kMaxSamples);
+    nodes_.push_back(ProfileNode{nodes[i].pressure_pa, sum_t / count, sum_tv / count,
+                                 static_cast<std::uint32_t>(std::fmax(samples, 1.0))});
     log_p_.push_back(log_p);
+    inverse_samples_.push_back(inverse_samples);
     i = j;
   }
   build(covered_bottom_pa, covered_top_pa);
@@ -89,6 +105,17 @@ void TemperatureProfile::build(double covered_bottom_pa, double covered_top_pa) 
         node_h_[i] + kRPerG0 * 0.5 * (a.virtual_temperature_k + b.virtual_temperature_k) * width;
     tv_slope_[i] = (b.virtual_temperature_k - a.virtual_temperature_k) / width;
     t_slope_[i] = (b.temperature_k - a.temperature_k) / width;
+  }
+  // Random-error weights: a fully crossed node i has (D_i-1 + D_i)/2
+  // (trapezoid rule), and the prefix sum of their squares over n.
+  full_weight_.assign(n, 0.0);
+  weight_prefix_.assign(n + 1, 0.0);
+  for (std::size_t i = 0; i < n; ++i) {
+    const double below = i > 0 ? log_p_[i - 1] - log_p_[i] : 0.0;
+    const double above = i + 1 < n ? log_p_[i] - log_p_[i + 1] : 0.0;
+    full_weight_[i] = 0.5 * (below + above);
+    weight_prefix_[i + 1] =
+        weight_prefix_[i] + full_weight_[i] * full_weight_[i] * inverse_samples_[i];
   }
   auto end_at = [this](std::size_t i) {
     const ussa76::Level level = ussa76::level_at_pressure(nodes_[i].pressure_pa);
@@ -155,14 +182,22 @@ ProfilePoint TemperatureProfile::geopotential_at(double pressure_pa,
                                                  std::size_t& segment_hint) const {
   const double log_p = std::log(pressure_pa);
   ProfilePoint out;
+  const std::size_t n = nodes_.size();
   if (pressure_pa > nodes_.front().pressure_pa) {
     out = extend(bottom_, pressure_pa, log_p);
+    // The extension below node 0 follows T_v,0: W_0 = ln(p_0/p) < 0.
+    out.weights = NodeWeights{0, log_p_[0] - log_p, 0.0};
   } else if (pressure_pa < nodes_.back().pressure_pa) {
     out = extend(top_, pressure_pa, log_p);
-  } else if (nodes_.size() == 1) {
+    // Every node fully crossed; the top one's half segment plus the
+    // extension, which follows T_v,e: W_e = D_e-1/2 + ln(p_e/p).
+    const double below = n > 1 ? 0.5 * (log_p_[n - 2] - log_p_[n - 1]) : 0.0;
+    out.weights = NodeWeights{n - 1, below + (log_p_[n - 1] - log_p), 0.0};
+  } else if (n == 1) {
     out.geopotential_m = 0.0;  // p is the single node's pressure
     out.temperature_k = nodes_.front().temperature_k;
     out.virtual_temperature_k = nodes_.front().virtual_temperature_k;
+    out.weights = NodeWeights{0, 0.0, 0.0};
   } else {
     const std::size_t i = find_segment(pressure_pa, segment_hint);
     segment_hint = i;
@@ -174,10 +209,46 @@ ProfilePoint TemperatureProfile::geopotential_at(double pressure_pa,
     out.temperature_k = a.temperature_k + t_slope_[i] * x;
     out.geopotential_m =
         node_h_[i] + kRPerG0 * x * (a.virtual_temperature_k + 0.5 * tv_slope_[i] * x);
+    // The same integral as weights of the two nodes: T_v = T_v,i (1 - x/D)
+    // + T_v,i+1 x/D integrates to T_v,i (x - x^2/(2D)) + T_v,i+1 x^2/(2D).
+    const double width = log_p_[i] - log_p_[i + 1];
+    const double below = i > 0 ? 0.5 * (log_p_[i - 1] - log_p_[i]) : 0.0;
+    const double upper = 0.5 * x * x / width;
+    out.weights = NodeWeights{i, below + x - upper, upper};
   }
   out.log_pressure = log_p;
   out.extrapolated = !(pressure_pa >= covered_top_pa_ && pressure_pa <= covered_bottom_pa_);
   return out;
+}
+
+double TemperatureProfile::weight_of(const NodeWeights& w, std::size_t j) const {
+  if (j < w.node) return full_weight_[j];
+  if (j == w.node) return w.at_node;
+  if (j == w.node + 1) return w.at_next;
+  return 0.0;
+}
+
+double TemperatureProfile::random_weight_sum(const ProfilePoint& a, const ProfilePoint& b) const {
+  // Order the points so that lo.node <= hi.node. Nodes j < lo.node have
+  // the full weight in both (difference 0); lo.node + 1 < j < hi.node have
+  // it in hi only (the prefix sum); j > hi.node + 1 have 0 in both. The
+  // nodes lo.node, lo.node + 1, hi.node, hi.node + 1 are summed explicitly.
+  const NodeWeights& lo = a.weights.node <= b.weights.node ? a.weights : b.weights;
+  const NodeWeights& hi = a.weights.node <= b.weights.node ? b.weights : a.weights;
+  const std::size_t n = nodes_.size();
+  double sum = 0.0;
+  if (hi.node > lo.node + 2) sum += weight_prefix_[hi.node] - weight_prefix_[lo.node + 2];
+  auto add = [&](std::size_t j) {
+    const double d = weight_of(hi, j) - weight_of(lo, j);
+    sum += d * d * inverse_samples_[j];
+  };
+  for (std::size_t j = lo.node; j <= lo.node + 1 && j < n; ++j) add(j);
+  for (std::size_t j = std::max(hi.node, lo.node + 2); j <= hi.node + 1 && j < n; ++j) add(j);
+  return sum;
+}
+
+double TemperatureProfile::random_weight_sum(double pressure_a_pa, double pressure_b_pa) const {
+  return random_weight_sum(geopotential_at(pressure_a_pa), geopotential_at(pressure_b_pa));
 }
 
 // ---- legs -------------------------------------------------------------------
@@ -498,11 +569,15 @@ TemperatureProfile ProfileBuilder::build() const {
     for (const auto& [entry, weight] : entries) scratch.emplace_back(entry.*channel, weight);
     return weighted_median(scratch);
   };
+  constexpr std::size_t kMaxSamples = std::numeric_limits<std::uint32_t>::max();
   for (const auto& [layer, entries] : layers) {
     // One node per layer: the medians of T, T_v and ln p.
+    // `samples`: the values the medians are of (thinned-out samples do not
+    // enter them, so they do not average the random error down).
     nodes.push_back(ProfileNode{std::exp(median_of(entries, &Entry::log_pressure)),
                                 median_of(entries, &Entry::temperature_k),
-                                median_of(entries, &Entry::virtual_temperature_k)});
+                                median_of(entries, &Entry::virtual_temperature_k),
+                                static_cast<std::uint32_t>(std::min(entries.size(), kMaxSamples))});
   }
   // Covered: from the lower bound of the lowest layer to the upper bound of
   // the highest one.

@@ -187,6 +187,55 @@ void write_reference(JsonWriter& j, const HeightReport& r) {
   j.end_object();
 }
 
+void write_budget_point(JsonWriter& j, const BudgetPoint& b) {
+  if (!b.set) {
+    j.null();
+    return;
+  }
+  j.begin_object();
+  j.key("elapsed_s"); j.value(b.elapsed_s);
+  j.key("height_m"); j.value(b.height_m);
+  j.key("sigma_m"); j.value(b.sigma.total_m);
+  j.key("terms");
+  j.begin_object();
+  const double v = b.sigma.total_m * b.sigma.total_m;
+  for (std::size_t t = 0; t < kErrorTermCount; ++t) {
+    j.key(error_term_name(static_cast<ErrorTerm>(t)));
+    j.begin_object();
+    j.key("sigma_m"); j.value(b.sigma.term_m[t]);
+    j.key("variance_share"); j.value(v > 0.0 ? b.sigma.term_m[t] * b.sigma.term_m[t] / v : 0.0);
+    j.end_object();
+  }
+  j.end_object();
+  j.end_object();
+}
+
+void write_uncertainty(JsonWriter& j, const HeightReport& r) {
+  j.begin_object();
+  j.key("band"); j.value(r.band_method);
+  j.key("coverage_factor"); j.value(r.coverage_factor);
+  j.key("sigma_ref_hpa"); j.value(r.sigma_ref_pa / 100.0);
+  j.key("sigma_ref_from"); j.value(r.sigma_ref_source);
+  if (r.reference) {
+    const Reference& ref = *r.reference;
+    j.key("offset_common_to_reference"); j.value(ref.offset_common);
+    j.key("drift_model");
+    switch (ref.drift_uncertainty.kind) {
+      case DriftUncertainty::Kind::kSinceReference: j.value("since the reference"); break;
+      case DriftUncertainty::Kind::kBridge: j.value("bridge between the rests (drift linear)"); break;
+      case DriftUncertainty::Kind::kBase: j.value("base-station noise"); break;
+    }
+    j.key("base_noise_hpa");
+    if (ref.drift_uncertainty.kind == DriftUncertainty::Kind::kBase)
+      j.value(ref.drift_uncertainty.base_noise_pa / 100.0);
+    else
+      j.null();
+  }
+  j.key("at_max_height"); write_budget_point(j, r.budget_at_max);
+  j.key("at_end"); write_budget_point(j, r.budget_at_end);
+  j.end_object();
+}
+
 }  // namespace
 
 std::string height_manifest(const ManifestRun& run, const HeightOptions& o,
@@ -307,6 +356,7 @@ std::string height_manifest(const ManifestRun& run, const HeightOptions& o,
     j.key("rows_spike"); j.value(r.spike_rows);
     j.end_object();
     j.key("reference"); write_reference(j, r);
+    j.key("uncertainty"); write_uncertainty(j, r);
     j.end_object();
   }
   j.end_array();
@@ -370,11 +420,18 @@ std::string height_manifest(const ManifestRun& run, const HeightOptions& o,
   j.key("stationary_sustain_s"); j.value(o.reference.stationary.sustain_s);
   j.key("stationary_baseline_span_s"); j.value(o.reference.stationary.baseline_span_s);
   j.key("sigma_p_hpa"); j.value(o.budget.sigma_p_pa / 100.0);
-  j.key("sigma_ref_hpa"); j.value(o.budget.sigma_ref_pa / 100.0);
+  j.key("sigma_p_abs_hpa"); j.value(o.budget.sigma_p_abs_pa / 100.0);
+  j.key("sigma_ref_hpa");
+  if (o.budget.sigma_ref_pa) j.value(*o.budget.sigma_ref_pa / 100.0); else j.value("default");
   j.key("sigma_t_k"); j.value(o.budget.sigma_t_k);
+  j.key("sigma_t_random_k"); j.value(o.budget.sigma_t_random_k);
   j.key("sigma_t_model_k"); j.value(o.budget.sigma_t_model_k);
   j.key("drift_sigma_hpa_per_h"); j.value(o.budget.drift_sigma_pa_per_s * 36.0);
   j.key("confidence"); j.value(o.budget.confidence);
+  j.key("monte_carlo_runs"); j.value(static_cast<std::uint64_t>(o.budget.monte_carlo_runs));
+  j.key("seed");
+  if (o.budget.monte_carlo_runs > 0) j.value(o.budget.seed); else j.null();
+  j.key("sigma_columns"); j.value(o.sigma_columns);
   j.key("coverage_factor");
   j.value(reports.empty() ? kMissing : reports.front().coverage_factor);
   j.key("p_range_hpa");

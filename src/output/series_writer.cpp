@@ -76,6 +76,9 @@ SeriesWriter::SeriesWriter(ByteSink& sink, const SeriesOptions& options, bool ti
                         "geopotential height above the reference level"});
   if (options_.gnss_alt)
     columns_.push_back({"gnss_alt" + hs, hu, "", "GNSS altitude as logged"});
+  for (const auto& term : options_.sigma_columns)
+    columns_.push_back({term + hs, hu, "",
+                        "1-sigma height contribution of the budget term " + term});
   if (options_.flags)
     columns_.push_back({"flags", "", "", "'|'-separated sample flags"});
   for (const auto& c : columns_) keys_.push_back("\"" + c.name + "\":");
@@ -120,7 +123,9 @@ void SeriesWriter::write_header() {
 }
 
 void SeriesWriter::write_row(const SeriesRow& r) {
-  reserve(6 * r.time_text.size() + 16 * kMaxFixedChars);  // worst case: every byte as \\uXXXX
+  // Worst case: every byte of the time as \uXXXX, every number at full
+  // width with its NDJSON key.
+  reserve(6 * r.time_text.size() + (16 + options_.sigma_columns.size()) * (kMaxFixedChars + 32));
   char* const start = buffer_.data() + used_;
   char* p = start;
   const bool csv = options_.format == OutputFormat::kCsv;
@@ -189,6 +194,10 @@ void SeriesWriter::write_row(const SeriesRow& r) {
   if (options_.gnss_alt) {
     sep();
     p = number(p, r.gnss_alt_m, options_.height_decimals, hscale);
+  }
+  for (std::size_t i = 0; i < options_.sigma_columns.size(); ++i) {
+    sep();
+    p = number(p, r.sigma_m ? r.sigma_m[i] : kMissing, options_.height_decimals, hscale);
   }
   if (options_.flags) {
     sep();

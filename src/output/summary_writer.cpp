@@ -217,6 +217,33 @@ std::string summary_json(const FlightSeries& series, const FlightEvents& ev,
   w.member("max_altitude_m", "altitude");
   w.end_object();
 
+  // Each term's share of the height variance (docs/uncertainty.md).
+  auto budget = [&](const char* key, const BudgetAt& b) {
+    w.key(key);
+    if (!b.set) {
+      w.null();
+      return;
+    }
+    w.begin_object();
+    write_number(w, "elapsed_s", b.elapsed_s);
+    write_number(w, "height_m", b.height_m);
+    write_number(w, "sigma_m", b.sigma_m);
+    w.key("terms").begin_object();
+    const double v = b.sigma_m * b.sigma_m;
+    for (const auto& [name, sigma] : b.terms) {
+      w.key(name).begin_object();
+      write_number(w, "sigma_m", sigma);
+      write_number(w, "variance_share", v > 0.0 ? sigma * sigma / v : 0.0);
+      w.end_object();
+    }
+    w.end_object();
+    w.end_object();
+  };
+  w.key("error_budget").begin_object();
+  budget("at_max_height", series.budget_at_max);
+  budget("at_end", series.budget_at_end);
+  w.end_object();
+
   w.key("notes").begin_array();
   for (const std::string& n : s.notes) w.value(n);
   w.end_array();
@@ -321,6 +348,19 @@ std::string summary_text(const FlightSeries& series, const FlightEvents& ev,
     for (const TimeAbove& ta : s.time_above)
       add(fmt::format("above {} m", f3(ta.height_m)), num(ta.duration_s, "s"));
     flush("time above");
+  }
+  for (const auto& [title, b] : {std::pair<const char*, const BudgetAt*>{"error budget at the "
+                                                                        "maximum height",
+                                                                        &series.budget_at_max},
+                                 {"error budget at the end", &series.budget_at_end}}) {
+    if (!b->set) continue;
+    const double v = b->sigma_m * b->sigma_m;
+    add("1 sigma", fmt::format("{} at {} m, {} s", num(b->sigma_m, "m"), f3(b->height_m),
+                               f3(b->elapsed_s)));
+    for (const auto& [name, sigma] : b->terms)
+      add(name, fmt::format("{} ({:.1f} % of the variance)", num(sigma, "m"),
+                            v > 0.0 ? 100.0 * sigma * sigma / v : 0.0));
+    flush(title);
   }
   if (!s.notes.empty()) {
     out += "notes\n";

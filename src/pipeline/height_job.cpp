@@ -1,5 +1,6 @@
 #include "baroz/pipeline/height_job.hpp"
 
+#include <algorithm>
 #include <cmath>
 #include <memory>
 
@@ -16,6 +17,7 @@
 #include "baroz/pipeline/base_source.hpp"
 #include "baroz/pipeline/log_survey.hpp"
 #include "baroz/pipeline/sample_feed.hpp"
+#include "baroz/uncertainty/monte_carlo.hpp"
 
 namespace baroz {
 namespace {
@@ -51,6 +53,8 @@ class HeightJob {
   void write_out(SeriesRow& row);
   void drain_smoother(bool finish);
   bool emit(Sample& sample, bool in_window);
+  HeightEval evaluate_height(double pressure_pa, double temperature_k, double reference_pa,
+                             double& altitude_m);
   void hold(const Sample& sample);
   bool release_held();
   void start_writer(bool time_is_number);
@@ -68,6 +72,7 @@ class HeightJob {
   std::unique_ptr<HeightModel> model_;
   std::unique_ptr<StandardModel> altimeter_;  // --qnh
   std::unique_ptr<ErrorBudget> budget_;
+  std::unique_ptr<MonteCarlo> monte_carlo_;  // --monte-carlo N
   std::unique_ptr<ReferenceResolver> resolver_;
   std::unique_ptr<SeriesWriter> writer_;
   Reference reference_;
@@ -103,6 +108,7 @@ class HeightJob {
   struct Pending {
     SeriesRow row;
     std::string time_text;
+    std::array<double, kErrorTermCount> sigma{};
   };
   std::unique_ptr<FlightSmoother> smoother_;
   std::vector<Pending> ring_;
@@ -382,6 +388,9 @@ void HeightJob::start_writer(bool time_is_number) {
                 options_.reference.elevation_m.has_value() || options_.reference.gnss_datum;
   so.gnss_alt = report_.columns.has(Role::kGnssAlt);
   so.vspeed = options_.vspeed;
+  if (options_.sigma_columns)
+    for (std::size_t t = 0; t < kErrorTermCount; ++t)
+      so.sigma_columns.emplace_back(error_term_name(static_cast<ErrorTerm>(t)));
   writer_ = std::make_unique<SeriesWriter>(output_, so, time_is_number);
   report_.output_columns = writer_->columns();
   writer_->write_header();
@@ -392,11 +401,9 @@ bool HeightJob::emit(Sample& s, bool in_window) {
   ReferencePoint ref = reference_.point;
   const TrackValue track = reference_.track.at(s.time_ns);
   ref.pressure_pa = track.pressure_pa;
-  double reference_age_s = 0.0;
   if (track.outside_base) {
     s.flags |= kFlagNoBase;
     ++report_.no_base_rows;
-    reference_age_s = track.outside_s;
     if (options_.reference.base.outside == OutsideBasePolicy::kReject) {
       problem_.reason = RejectReason::kOutsideBase;
       problem_.line = s.line;
@@ -413,33 +420,20 @@ bool HeightJob::emit(Sample& s, bool in_window) {
   }
   HeightEval e;
   double altitude = kMissing;
-  if (altimeter_) {
-    // Altimeter relation: altitude = Z(H(p) - H(QNH)) (product spec, --qnh).
-    const ReferencePoint msl{reference_.qnh_pa, reference_.point.temperature_k, 0.0};
-    e = altimeter_->evaluate(s.pressure_pa, s.temperature_k, msl);
-    if (e.valid) {
-      altitude = e.height_m;
-      if (!std::isnan(elevation_m_)) {
-        e.height_m -= elevation_m_;
-        e.geopotential_m -= geopotential_from_geometric(elevation_m_);
-      } else {
-        // Measured from the window's altitude: the QNH error cancels, the
-        // window's pressure error enters instead.
-        e.height_m -= altitude_ref_.height_m;
-        e.geopotential_m -= altitude_ref_.geopotential_m;
-        e.dh_dpref = -altitude_ref_.dh_dp;
-        e.dh_dtmodel -= altitude_ref_.dh_dtmodel;
-      }
-    }
-  } else if (causal_builder_ && !feed_causal_profile(s)) {
+  // The reference pressure the height's dh_dpref refers to: QNH for the
+  // altimeter relation from --elevation, the window's pressure for it
+  // without, else p_ref(t).
+  const double reference_pa = altimeter_ ? (!std::isnan(elevation_m_) ? reference_.qnh_pa
+                                                                      : reference_.point.pressure_pa)
+                                         : ref.pressure_pa;
+  if (causal_builder_ && !altimeter_ && !feed_causal_profile(s)) {
     e.valid = false;
     e.reason = options_.profile.builder.leg == ProfileLeg::kDescent
                    ? "the descent leg of the profile has no sample yet (it starts after the "
                      "top; on a stream the rows before it cannot use it)"
                    : "no temperature sample has arrived yet to build the profile from";
   } else {
-    e = model_->evaluate(s.pressure_pa, s.temperature_k, ref);
-    if (e.valid && !std::isnan(elevation_m_)) altitude = elevation_m_ + e.height_m;
+    e = evaluate_height(s.pressure_pa, s.temperature_k, reference_pa, altitude);
   }
   if (!e.valid) {
     problem_.reason =
@@ -461,8 +455,31 @@ bool HeightJob::emit(Sample& s, bool in_window) {
     s.flags |= kFlagExtrapolated;
     ++report_.extrapolated_rows;
   }
-  const HeightSigma sigma = budget_->evaluate(e, reference_age_s);
-  const double half = budget_->coverage_factor() * sigma.total_m;
+  DriftUncertainty& drift = reference_.drift_uncertainty;
+  if (drift.at_first_row) {
+    drift.t_ref_ns = s.time_ns;  // an external reference: taken as valid at the first row
+    drift.at_first_row = false;
+  }
+  BudgetInputs inputs;
+  inputs.reference_sigma_pa = report_.sigma_ref_pa;
+  inputs.offset_common = reference_.offset_common;
+  inputs.drift_pa =
+      drift.sigma_pa(s.time_ns, track.outside_s, options_.budget.drift_sigma_pa_per_s);
+  const HeightSigma sigma = budget_->evaluate(e, inputs);
+  double low = e.height_m - budget_->coverage_factor() * sigma.total_m;
+  double high = e.height_m + budget_->coverage_factor() * sigma.total_m;
+  if (monte_carlo_) {
+    const double temperature = s.temperature_k;
+    const MonteCarloBand mc = monte_carlo_->band(
+        [&](double p, double p_ref) {
+          double unused = kMissing;
+          const HeightEval h = evaluate_height(p, temperature, p_ref, unused);
+          return h.valid ? h.height_m : kMissing;
+        },
+        s.pressure_pa, reference_pa, e, inputs, report_.rows_read);
+    low = mc.low_m;
+    high = mc.high_m;
+  }
 
   if (!have_first_time_) {
     have_first_time_ = true;
@@ -470,8 +487,12 @@ bool HeightJob::emit(Sample& s, bool in_window) {
     report_.first_time_ns = s.time_ns;
   }
   report_.last_time_ns = s.time_ns;
-  if (std::isnan(report_.max_height_m) || e.height_m > report_.max_height_m)
+  const double elapsed_s = static_cast<double>(s.time_ns - first_time_ns_) * 1e-9;
+  if (std::isnan(report_.max_height_m) || e.height_m > report_.max_height_m) {
     report_.max_height_m = e.height_m;
+    report_.budget_at_max = {true, elapsed_s, e.height_m, sigma};
+  }
+  report_.budget_at_end = {true, elapsed_s, e.height_m, sigma};
 
   SeriesRow row;
   row.time_text = s.time_text;
@@ -479,14 +500,51 @@ bool HeightJob::emit(Sample& s, bool in_window) {
   row.pressure_pa = s.pressure_pa;
   row.temperature_k = s.temperature_k;
   row.height_m = e.height_m;
-  row.height_low_m = e.height_m - half;
-  row.height_high_m = e.height_m + half;
+  row.height_low_m = low;
+  row.height_high_m = high;
+  row.sigma_m = sigma.term_m.data();
   row.altitude_m = altitude;
   row.geopotential_m = e.geopotential_m;
   row.gnss_alt_m = s.gnss_alt_m;
   row.flags = s.flags;
   output_row(row);
   return true;
+}
+
+HeightEval HeightJob::evaluate_height(double p, double t, double reference_pa, double& altitude) {
+  HeightEval e;
+  altitude = kMissing;
+  if (altimeter_) {
+    // Altimeter relation: altitude = Z(H(p) - H(QNH)) (product spec, --qnh).
+    const bool from_elevation = !std::isnan(elevation_m_);
+    const ReferencePoint msl{from_elevation ? reference_pa : reference_.qnh_pa,
+                             reference_.point.temperature_k, 0.0};
+    e = altimeter_->evaluate(p, t, msl);
+    if (!e.valid) return e;
+    altitude = e.height_m;
+    if (from_elevation) {
+      e.height_m -= elevation_m_;
+      e.geopotential_m -= geopotential_from_geometric(elevation_m_);
+      return e;
+    }
+    // Measured from the window's altitude: the QNH error cancels, the
+    // window's pressure error enters instead.
+    HeightEval base = altitude_ref_;
+    if (reference_pa != reference_.point.pressure_pa) {  // a perturbed window (Monte Carlo)
+      base = altimeter_->evaluate(reference_pa, kMissing, msl);
+      if (!base.valid) return base;
+    }
+    e.height_m -= base.height_m;
+    e.geopotential_m -= base.geopotential_m;
+    e.dh_dpref = -base.dh_dp;
+    e.dh_dtmodel -= base.dh_dtmodel;
+    return e;
+  }
+  ReferencePoint ref = reference_.point;
+  ref.pressure_pa = reference_pa;
+  e = model_->evaluate(p, t, ref);
+  if (e.valid && !std::isnan(elevation_m_)) altitude = elevation_m_ + e.height_m;
+  return e;
 }
 
 void HeightJob::output_row(const SeriesRow& row) {
@@ -507,6 +565,7 @@ void HeightJob::output_row(const SeriesRow& row) {
   ++ring_count_;
   p.time_text.assign(row.time_text);
   p.row = row;
+  if (row.sigma_m) std::copy(row.sigma_m, row.sigma_m + kErrorTermCount, p.sigma.begin());
   smoother_->push(static_cast<double>(row.elapsed_ns) * 1e-9, row.height_m);
   drain_smoother(false);
 }
@@ -521,6 +580,7 @@ void HeightJob::drain_smoother(bool finish) {
     --ring_count_;
     SeriesRow& r = p.row;
     r.time_text = p.time_text;
+    if (r.sigma_m) r.sigma_m = p.sigma.data();
     if (options_.despike && done.spike) r.flags |= kFlagSpike;
     if (options_.vspeed) r.vspeed_mps = done.vspeed_mps;
     write_out(r);
@@ -574,6 +634,13 @@ bool HeightJob::release_held() {
 void HeightJob::resolve_reference(bool end_of_input) {
   reference_ = resolver_->resolve(end_of_input, input_.name());
   have_reference_ = true;
+  if (options_.budget.sigma_ref_pa) {
+    report_.sigma_ref_pa = *options_.budget.sigma_ref_pa;
+    report_.sigma_ref_source = "option";
+  } else {
+    report_.sigma_ref_pa = reference_.sigma_ref_default_pa;
+    report_.sigma_ref_source = reference_.sigma_ref_default_source;
+  }
   for (const auto& n : reference_.notes) diag_.note(input_.name(), n);
   if (profile_model_ && !profile_model_->frame().is_standard() && !std::isnan(elevation_m_))
     reference_.point.datum_geopotential_m =
@@ -636,6 +703,16 @@ HeightReport HeightJob::run() {
     smoother_ = std::make_unique<FlightSmoother>(options_.smoothing);
   budget_ = std::make_unique<ErrorBudget>(options_.budget);
   report_.coverage_factor = budget_->coverage_factor();
+  if (options_.budget.monte_carlo_runs > 0) {
+    monte_carlo_ = std::make_unique<MonteCarlo>(options_.budget);
+    report_.band_method = fmt::format("monte carlo ({} runs, seed {})",
+                                      options_.budget.monte_carlo_runs, options_.budget.seed);
+    diag_.note(input_.name(),
+               fmt::format("band by Monte Carlo: {} runs per row, seed {} (--seed to change)",
+                           options_.budget.monte_carlo_runs, options_.budget.seed));
+  } else {
+    report_.band_method = "linear";
+  }
   elevation_m_ = options_.reference.elevation_m ? *options_.reference.elevation_m : kMissing;
   resolver_ = std::make_unique<ReferenceResolver>(
       options_.reference, model_->kind() == ModelKind::kIsothermal,
@@ -717,6 +794,19 @@ HeightReport HeightJob::run() {
     collect_->elevation_m = elevation_m_;
     collect_->model = std::string(model_name(report_.model));
     collect_->confidence = options_.budget.confidence;
+    auto budget_at = [](const BudgetPoint& b) {
+      BudgetAt a;
+      a.set = b.set;
+      a.elapsed_s = b.elapsed_s;
+      a.height_m = b.height_m;
+      a.sigma_m = b.sigma.total_m;
+      for (std::size_t t = 0; t < kErrorTermCount; ++t)
+        a.terms.emplace_back(std::string(error_term_name(static_cast<ErrorTerm>(t))),
+                             b.sigma.term_m[t]);
+      return a;
+    };
+    collect_->budget_at_max = budget_at(report_.budget_at_max);
+    collect_->budget_at_end = budget_at(report_.budget_at_end);
   }
   // Hash the whole input, also when --strict stopped early.
   if (input_.hashing()) {

@@ -43,6 +43,7 @@ ProfileBuild read_profile_table(ByteSource& input, const ReaderOptions& reader,
     ProfileNode node;
     node.pressure_pa = s.pressure_pa;
     node.temperature_k = s.temperature_k;
+    node.samples = 1;  // one row, one measurement (its random error is a sample's)
     if (!std::isnan(s.humidity_pct)) {
       node.virtual_temperature_k =
           virtual_temperature_from_rh_k(s.temperature_k, s.humidity_pct, s.pressure_pa,

@@ -4,6 +4,7 @@
 #include <cmath>
 
 #include "baroz/core/error.hpp"
+#include "baroz/core/robust_statistics.hpp"
 
 namespace baroz {
 
@@ -17,6 +18,9 @@ BaseSeries::BaseSeries(std::vector<BaseSample> samples) : samples_(std::move(sam
     d.push_back(static_cast<double>(samples_[i].time_ns - samples_[i - 1].time_ns) * 1e-9);
   std::nth_element(d.begin(), d.begin() + static_cast<std::ptrdiff_t>(d.size() / 2), d.end());
   interval_s_ = d[d.size() / 2];
+  for (std::size_t i = 1; i < samples_.size(); ++i)
+    d[i - 1] = std::fabs(samples_[i].pressure_pa - samples_[i - 1].pressure_pa);
+  noise_sigma_pa_ = kMadToSigma * median_in_place(d) / std::sqrt(2.0);
   double sum = 0.0;
   std::size_t n = 0;
   for (const auto& s : samples_)

@@ -160,6 +160,7 @@ Reference ReferenceResolver::resolve(bool end_of_input, std::string_view source)
     ref.temperature_source = "option";
   } else if (ref.window && !std::isnan(ref.window->temperature_k)) {
     ref.point.temperature_k = ref.window->temperature_k;
+    ref.point.temperature_samples = static_cast<std::uint32_t>(ref.window->temperature_samples);
     ref.temperature_source = "window";
   } else if (base_ && !std::isnan(base_->mean_temperature_k())) {
     ref.point.temperature_k = base_->mean_temperature_k();
@@ -206,7 +207,84 @@ Reference ReferenceResolver::resolve(bool end_of_input, std::string_view source)
 
   ref.point.datum_geopotential_m =
       options_.elevation_m ? geopotential_from_geometric(*options_.elevation_m) : kMissing;
+  set_budget_inputs(ref, window_used);
   return ref;
+}
+
+void ReferenceResolver::set_budget_inputs(Reference& ref,
+                                          const std::vector<RestSample>& window) const {
+  // The window mean's own error: the sensor noise over sqrt(n) (the
+  // detector's robust noise; the spread of the samples for a fixed window).
+  double window_se = 0.0;
+  if (ref.window && ref.window->used > 0) {
+    const ReferenceWindow& w = *ref.window;
+    const double noise = w.auto_detected ? w.noise_sigma_pa : w.pressure_sd_pa;
+    window_se = noise / std::sqrt(static_cast<double>(w.used));
+  }
+  DriftUncertainty& d = ref.drift_uncertainty;
+  if (!window.empty()) {
+    RestSegment pre;
+    pre.used = window;
+    d.t_ref_ns = pre.mean_time_ns();
+    d.at_first_row = false;
+  }
+  switch (options_.kind) {
+    case ReferenceKind::kWindow:
+      ref.sigma_ref_default_pa = window_se;
+      ref.sigma_ref_default_source = "standard error of the window mean";
+      ref.offset_common = true;
+      if (ref.drift) {
+        d.kind = DriftUncertainty::Kind::kBridge;
+        d.a_ns = ref.drift->pre_time_ns;
+        d.b_ns = ref.drift->post_time_ns;
+      }
+      break;
+    case ReferenceKind::kPressure:
+      ref.sigma_ref_default_pa = 10.0;
+      ref.sigma_ref_default_source = "0.1 hPa, an external reference pressure";
+      ref.offset_common = false;
+      break;
+    case ReferenceKind::kQnh:
+      ref.sigma_ref_default_pa = 10.0;
+      ref.sigma_ref_default_source = "0.1 hPa, the altimeter setting";
+      // height_m from the window's altitude: the sensor's offset cancels
+      // there; from --elevation it does not.
+      ref.offset_common = !options_.elevation_m.has_value();
+      break;
+    case ReferenceKind::kBase: {
+      const bool tie = ref.base && ref.base->tie;
+      const double base_noise = base_ ? base_->noise_sigma_pa() : 0.0;
+      // The tie's mean of (flight - base) over the window, or the base's
+      // absolute calibration without it.
+      ref.sigma_ref_default_pa =
+          tie ? std::hypot(window_se, base_noise / std::sqrt(static_cast<double>(
+                                                      std::max<std::size_t>(ref.base->tie_samples, 1))))
+              : 10.0;
+      ref.sigma_ref_default_source =
+          tie ? "standard error of the tie over the window" : "0.1 hPa, the base's calibration";
+      ref.offset_common = tie;
+      d.kind = DriftUncertainty::Kind::kBase;
+      d.base_noise_pa = base_noise;
+      break;
+    }
+  }
+}
+
+double DriftUncertainty::sigma_pa(TimeNs t, double outside_s, double rate) const {
+  switch (kind) {
+    case Kind::kSinceReference:
+      return rate * std::fabs(static_cast<double>(t - t_ref_ns)) * 1e-9;
+    case Kind::kBridge: {
+      const double ta = static_cast<double>(t - a_ns) * 1e-9;
+      const double tb = static_cast<double>(b_ns - t) * 1e-9;
+      if (ta <= 0.0) return rate * -ta;
+      if (tb <= 0.0) return rate * -tb;
+      return rate * ta * tb / (ta + tb);
+    }
+    case Kind::kBase:
+      return std::hypot(base_noise_pa, rate * outside_s);
+  }
+  return 0.0;
 }
 
 }  // namespace baroz

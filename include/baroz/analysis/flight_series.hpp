@@ -6,6 +6,7 @@
 #include <cstdint>
 #include <limits>
 #include <string>
+#include <utility>
 #include <vector>
 
 #include "baroz/core/sample.hpp"
@@ -26,6 +27,15 @@ struct FlightPoint {
 };
 
 /// A whole series with what is needed to label it.
+/// The error budget at one row: each term's 1-sigma height contribution.
+struct BudgetAt {
+  bool set = false;
+  double elapsed_s = kMissing;
+  double height_m = kMissing;
+  double sigma_m = kMissing;                                  ///< total 1 sigma
+  std::vector<std::pair<std::string, double>> terms;          ///< (term name, 1 sigma [m])
+};
+
 struct FlightSeries {
   std::string source;               ///< input name, as in messages
   bool absolute_time = false;       ///< times are UTC (start_time_ns since the epoch)
@@ -34,6 +44,8 @@ struct FlightSeries {
   std::string model;                ///< height model used ("profile", ...)
   double confidence = 0.95;         ///< coverage of the band [0..1]
   std::vector<FlightPoint> points;  ///< in input order (time normally increasing)
+  BudgetAt budget_at_max;           ///< at the row of the largest height
+  BudgetAt budget_at_end;           ///< at the last row
 };
 
 }  // namespace baroz

@@ -2,6 +2,7 @@
 // reference, with the partial derivatives the uncertainty stage needs.
 #pragma once
 
+#include <cstdint>
 #include <memory>
 #include <optional>
 #include <string_view>
@@ -19,6 +20,11 @@ struct ReferencePoint {
   /// geometric conversion (USSA76 eq. 18). NaN: the model uses the standard
   /// atmosphere's altitude of p_ref.
   double datum_geopotential_m = 0.0;
+  /// Number of temperature samples temperature_k is the mean of (the
+  /// reference window's), for the random part of the temperature error;
+  /// 0: temperature_k is not from samples (e.g. given on the command line,
+  /// or the standard 288.15 K) and has no random error.
+  std::uint32_t temperature_samples = 0;
 };
 
 /// What a model gives for one sample. Heights are metres above the reference
@@ -30,6 +36,12 @@ struct HeightEval {
   double dh_dpref = 0.0;          ///< d height / d p_ref    [m Pa^-1]
   double dh_dt = 0.0;             ///< d height / d T (measured or reference) [m K^-1]
   double dh_dtmodel = 0.0;        ///< d height / d (uniform offset of the model's temperature profile) [m K^-1]
+  /// Random (per-sample, independent) temperature errors of unit sigma
+  /// [K] give this 1-sigma height error [m K^-1]: sqrt(sum_i (dh/dT_i)^2 / n_i)
+  /// over the temperatures T_i the height uses, each the mean (or median) of
+  /// n_i samples (docs/uncertainty.md). 0 when the model uses no measured
+  /// temperature.
+  double dh_dt_random = 0.0;
   bool extrapolated = false;      ///< evaluated outside the model's valid range
   bool valid = true;              ///< false: the model cannot give a height (see reason)
   std::string_view reason;        ///< why not valid, e.g. "pressure below the standard atmosphere's range"

@@ -18,6 +18,11 @@
 // - dh_dt      = (dH / T) Z'(Hd + dH): for kReference the derivative with
 //   respect to ref.temperature_k; for kMean with respect to a common offset
 //   of both temperatures (which moves their mean by the same amount).
+// - dh_dt_random: random (independent) errors of unit sigma (GUM JCGM
+//   100:2008 eq. 10), N = ref.temperature_samples the samples T_ref is the
+//   mean of (0: T_ref has no random error). kReference: |dh_dt| / sqrt(N)
+//   (0 for N = 0). kMean: dh/dT_ref = dh/dT_sample = dh_dt / 2, the sample
+//   one sample, so |dh_dt| sqrt(1/4 + 1/(4N)) (|dh_dt| / 2 for N = 0).
 // - dh_dtmodel = 0.
 //
 // Valid: p > 0 and p_ref > 0 finite, T > 0 (else valid = false with a

@@ -24,6 +24,13 @@
 //   uniform offset of the whole measured profile (T and T_v of every node,
 //   and so of the extension), i.e. a temperature-sensor bias; the datum is
 //   held fixed.
+// - dh_dt_random = (R/g0) sqrt(S(p_ref, p)) Z'(Hd + dH): independent random
+//   errors of unit sigma in the samples behind the nodes (node i the median
+//   of n_i of them): dh/dT_i = (R/g0) (W_i(p) - W_i(p_ref)) Z', summed in
+//   quadrature with weight 1/n_i (GUM JCGM 100:2008 eq. 10), S and W_i as in
+//   temperature_profile.hpp (T_v/T taken as 1). Errors average within a
+//   layer and add in quadrature across layers: for L equal layers of n
+//   samples dh_dt_random / dh_dt ~ 1/sqrt(n L).
 // - dh_dtmodel = 0 (the profile is the measurement, not a model assumption).
 //
 // extrapolated: p or p_ref outside the profile's covered pressure range
@@ -35,11 +42,12 @@
 // reason. (Within it the extended T_v stays positive for any profile whose
 // nodes are within 150..350 K: T_std spans 186.9..320.7 K there.)
 //
-// Cost: one log per sample (plus one log and one exp beyond the end nodes);
-// the segment search starts at the last sample's segment (O(1) for samples
-// in order, O(log n) otherwise). The reference terms are cached while p_ref,
-// the datum and the profile are unchanged. No allocation in evaluate(); the
-// instance is not thread-safe (caches).
+// Cost: one log and one sqrt per sample (plus one log and one exp beyond the
+// end nodes); the segment search starts at the last sample's segment (O(1)
+// for samples in order, O(log n) otherwise); dh_dt_random is O(1). The
+// reference terms are cached while p_ref, the datum and the profile are
+// unchanged. No allocation in evaluate(); the instance is not thread-safe
+// (caches).
 #pragma once
 
 #include <cstddef>
@@ -93,6 +101,7 @@ class ProfileModel final : public HeightModel {
   double ref_geopotential_m_ = 0.0;  // H(p_ref) through the profile [m']
   double ref_log_pressure_ = 0.0;    // ln(p_ref / 1 Pa)
   double ref_slope_ = 0.0;           // R T_v(p_ref) / (g0 p_ref) [m' Pa^-1]
+  ProfilePoint ref_point_;           // the profile at p_ref (node weights for dh_dt_random)
   bool ref_extrapolated_ = false;    // p_ref outside the covered range
   double datum_geopotential_m_ = 0.0;  // Hd [m']
   double datum_zprime_ = 1.0;          // Z'(Hd)

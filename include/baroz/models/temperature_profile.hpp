@@ -21,6 +21,24 @@
 // The derivation, the discretisation error and the validity are in
 // docs/profile-model.md.
 //
+// Random temperature errors. H is linear in the node values T_v,i:
+//   H(p) = (R/g0) sum_i W_i(p) T_v,i + (terms free of the nodes),
+// W_i(p) the weight of node i in the integral of T_v d(ln(1/p)) from node 0
+// to p. Within segment k (nodes k, k+1, ln-p width D_k) at x = ln(p_k/p):
+//   W_j = (D_j-1 + D_j)/2 (j < k, fully crossed; D_-1 = 0),
+//   W_k = D_k-1/2 + x - x^2/(2 D_k),   W_k+1 = x^2/(2 D_k),   W_j = 0 (j > k+1).
+// Beyond an end node e the extension's temperature follows T_v,e (a shift of
+// T_v,e shifts it alike), so W_e grows by ln(p_e/p) (negative below node 0).
+// Node i's temperature, the median of n_i samples with independent errors of
+// sigma, has the variance sigma^2/n_i (GUM JCGM 100:2008 4.2.3, for a mean),
+// so the variance of H(p) - H(p_ref) is (R/g0)^2 sigma^2 S (GUM eq. 10) with
+//   S(p_ref, p) = sum_i (W_i(p) - W_i(p_ref))^2 / n_i,
+// computed in O(1) from the weights of the two points (ProfilePoint::weights)
+// and a prefix sum of W_j^2/n_j over fully crossed nodes
+// (random_weight_sum()). The error is in T; T_v = T (1 + 0.61 q) carries it
+// with the factor T_v/T <= 1.02, taken as 1. (A median's variance is about
+// pi/2 times a mean's for normal errors; n_i counts samples as for a mean.)
+//
 // ProfileBuilder: fixed pressure layers (boundaries at the standard
 // atmosphere's pressures of multiples of `layer_m` geopotential metres), one
 // node per populated layer at the medians of T, T_v and ln p of the layer's
@@ -30,6 +48,7 @@
 
 #include <array>
 #include <cstddef>
+#include <cstdint>
 #include <limits>
 #include <map>
 #include <optional>
@@ -45,6 +64,21 @@ struct ProfileNode {
   double temperature_k = 0.0;   ///< air temperature T [K]
   /// Virtual temperature T_v [K]; NaN: no humidity known, T_v = T.
   double virtual_temperature_k = std::numeric_limits<double>::quiet_NaN();
+  /// Number of samples the node's temperature is the median (or mean) of,
+  /// >= 1: its random error is that of one sample over sqrt(samples). 1 for
+  /// a node that is one measurement (a --profile table row) or not a
+  /// measurement.
+  std::uint32_t samples = 1;
+};
+
+/// Where a pressure sits among the weights of the nodes in the integral of
+/// T_v d(ln(1/p)) from node 0 to it (see the file comment): node j has the
+/// weight of a fully crossed node for j < node, `at_node` for j = node,
+/// `at_next` for j = node + 1, and 0 above. Weights are in ln p.
+struct NodeWeights {
+  std::size_t node = 0;
+  double at_node = 0.0;
+  double at_next = 0.0;
 };
 
 /// The profile at one pressure.
@@ -54,6 +88,7 @@ struct ProfilePoint {
   double virtual_temperature_k = 0.0;  ///< T_v at p [K] (interpolated or extended)
   double log_pressure = 0.0;           ///< ln(p / 1 Pa)
   bool extrapolated = false;           ///< p outside the covered pressure range
+  NodeWeights weights;                 ///< the nodes' weights in the geopotential
 };
 
 /// A temperature profile over pressure (see the file comment). Immutable;
@@ -66,11 +101,13 @@ class TemperatureProfile {
 
   /// Profile through `nodes` (any order; sorted by decreasing pressure).
   /// Nodes with the same pressure (equal ln p in double precision)
-  /// are merged into one with the mean T and T_v. The covered range (for
+  /// are merged into one with the mean T and T_v (and the sample count
+  /// whose random error is that of the mean: k^2 / sum(1/n_j) for k nodes,
+  /// rounded in nodes(), exact in random_weight_sum()). The covered range (for
   /// the `extrapolated` flag) is the node range. Throws baroz::Error
   /// (input) when there is no node, a pressure is not positive and finite,
-  /// or a temperature or virtual temperature is outside
-  /// [kMinTemperatureK, kMaxTemperatureK].
+  /// a temperature or virtual temperature is outside
+  /// [kMinTemperatureK, kMaxTemperatureK], or a node has 0 samples.
   explicit TemperatureProfile(std::vector<ProfileNode> nodes);
   /// As above, with the covered range [covered_top_pa, covered_bottom_pa]
   /// [Pa] given (widened to contain the node range): the range the data
@@ -100,6 +137,14 @@ class TemperatureProfile {
   /// the segment found there (O(1) for samples in order).
   ProfilePoint geopotential_at(double pressure_pa, std::size_t& segment_hint) const;
 
+  /// S = sum_i (W_i(b) - W_i(a))^2 / n_i over the nodes (see the file
+  /// comment) for two points of this profile [(ln p)^2]: (R/g0) sqrt(S) is
+  /// the geopotential error of H(b) - H(a) per kelvin of independent
+  /// random error of one sample. O(1); symmetric; 0 for a == b.
+  double random_weight_sum(const ProfilePoint& a, const ProfilePoint& b) const;
+  /// The same between two pressures [Pa] (two binary searches).
+  double random_weight_sum(double pressure_a_pa, double pressure_b_pa) const;
+
  private:
   // Standard-atmosphere terms at an end node for the extension.
   struct End {
@@ -113,12 +158,17 @@ class TemperatureProfile {
   void build(double covered_bottom_pa, double covered_top_pa);
   ProfilePoint extend(const End& end, double pressure_pa, double log_p) const;
   std::size_t find_segment(double pressure_pa, std::size_t hint) const;
+  // W_j at the point of weights `w`.
+  double weight_of(const NodeWeights& w, std::size_t j) const;
 
   std::vector<ProfileNode> nodes_;      // decreasing pressure; T_v filled in
   std::vector<double> log_p_;           // ln p_i
   std::vector<double> node_h_;          // H_i [m'], node_h_[0] = 0
   std::vector<double> tv_slope_;        // s_i = dT_v/dx on segment i [K]
   std::vector<double> t_slope_;         // dT/dx on segment i [K]
+  std::vector<double> inverse_samples_;  // 1 / n_i (exact for merged nodes)
+  std::vector<double> full_weight_;      // W_i of a fully crossed node: (D_i-1 + D_i)/2
+  std::vector<double> weight_prefix_;    // sum_{j<i} full_weight_j^2 / n_j (n + 1 values)
   End bottom_;
   End top_;
   double covered_bottom_pa_ = 0.0;
@@ -166,7 +216,8 @@ struct ProfileOptions {
 ///   k layer_m <= H_std(p) < (k+1) layer_m (H_std the standard atmosphere's
 ///   geopotential altitude), i.e. fixed pressure bounds, about layer_m thick
 ///   at any level. A populated layer gives one node: the medians of T, of
-///   T_v and of ln p of its samples (robust to spikes and noise); the
+///   T_v and of ln p of its samples (robust to spikes and noise), with
+///   `samples` the number of values that median is of (after thinning); the
 ///   profile's covered range is the pressure range of the populated
 ///   layers' bounds. Empty layers are spanned by the interpolation.
 /// - Bounded memory: a layer of one accumulator keeps at most

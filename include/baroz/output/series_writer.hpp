@@ -27,6 +27,9 @@ struct SeriesOptions {
   int vspeed_decimals = 3;       ///< 0.001 m/s
   bool geopotential = false;     ///< write geopotential_height_m
   bool gnss_alt = false;         ///< write gnss_alt_m
+  /// --sigma-columns: one column "<name>_m" per budget term (its 1-sigma
+  /// contribution), in this order; empty: none.
+  std::vector<std::string> sigma_columns;
   bool flags = true;             ///< write flags
   bool line_buffered = false;    ///< flush after every row
 };
@@ -52,6 +55,7 @@ struct SeriesRow {
   double vspeed_mps = kMissing;
   double geopotential_m = kMissing;
   double gnss_alt_m = kMissing;
+  const double* sigma_m = nullptr;  ///< one value per SeriesOptions::sigma_columns [m]
   std::uint32_t flags = 0;
 };
 

@@ -45,9 +45,18 @@ struct HeightOptions {
   /// vspeed adds vspeed_mps, despike sets the spike flag.
   bool vspeed = false;
   bool despike = false;
+  bool sigma_columns = false;  ///< --sigma-columns: one column per budget term
   SmoothingOptions smoothing;
   SeriesOptions series;      ///< altitude and gnss_alt are decided by the job
   bool strict = false;
+};
+
+/// The error budget at one row, for the summary and the manifest.
+struct BudgetPoint {
+  bool set = false;
+  double elapsed_s = kMissing;
+  double height_m = kMissing;
+  HeightSigma sigma;
 };
 
 /// What one run did, for the count line, the manifest and the tests.
@@ -75,6 +84,11 @@ struct HeightReport {
   std::uint64_t no_base_rows = 0;          ///< rows flagged no_base (held or rejected)
   std::optional<Reference> reference;
   double coverage_factor = 0.0;
+  double sigma_ref_pa = kMissing;          ///< sigma_ref used (given or the reference's default)
+  std::string sigma_ref_source;            ///< "option" or how the default was formed
+  std::string band_method;                 ///< "linear" or "monte carlo (N runs, seed S)"
+  BudgetPoint budget_at_max;               ///< at the row of the maximum height
+  BudgetPoint budget_at_end;               ///< at the last row
   TimeNs first_time_ns = 0;
   TimeNs last_time_ns = 0;
   TimeNs nominal_interval_ns = 0;

@@ -44,6 +44,9 @@ class BaseSeries {
   TimeNs last_ns() const { return samples_.back().time_ns; }
   /// Median interval between samples [s].
   double interval_s() const { return interval_s_; }
+  /// The base sensor's noise [Pa], robustly from first differences
+  /// (1.4826 MAD / sqrt 2; the weather changes little between samples).
+  double noise_sigma_pa() const { return noise_sigma_pa_; }
   /// Mean temperature [K], NaN without a temperature column.
   double mean_temperature_k() const { return mean_temperature_k_; }
 
@@ -54,6 +57,7 @@ class BaseSeries {
  private:
   std::vector<BaseSample> samples_;
   double interval_s_ = 0.0;
+  double noise_sigma_pa_ = 0.0;
   double mean_temperature_k_ = kMissing;
 };
 

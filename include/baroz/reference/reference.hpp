@@ -113,6 +113,24 @@ struct DriftReport {
   double rate_pa_per_s = 0.0;         ///< the drift
 };
 
+/// How the error of p_ref from the ground pressure's drift grows with time
+/// (the budget's drift term; docs/uncertainty.md):
+///   since-reference  rate |t - t_ref|                 (window, --ref-pressure, --qnh)
+///   bridge           rate (t - a)(b - t)/(b - a)      (--drift linear, between the rests;
+///                    rate times the distance beyond them)
+///   base             the base's own noise, plus rate times the time beyond its span
+struct DriftUncertainty {
+  enum class Kind { kSinceReference, kBridge, kBase };
+  Kind kind = Kind::kSinceReference;
+  bool at_first_row = true;    ///< since-reference: t_ref is the log's first row
+  TimeNs t_ref_ns = 0;
+  TimeNs a_ns = 0, b_ns = 0;   ///< bridge
+  double base_noise_pa = 0.0;  ///< base
+  /// 1-sigma error of p_ref at time t [Pa]; `outside_s` as TrackValue gives
+  /// it, `rate` the drift sigma [Pa/s].
+  double sigma_pa(TimeNs t_ns, double outside_s, double rate_pa_per_s) const;
+};
+
 struct Reference {
   ReferenceKind kind = ReferenceKind::kWindow;
   ReferencePoint point;                 ///< what the model measures from (p_ref at the window)
@@ -125,6 +143,13 @@ struct Reference {
   std::vector<CheckpointObservation> checkpoint_observations;
   std::optional<CheckpointFit> checkpoint_fit;
   std::optional<GnssFit> gnss;
+  /// For the budget: sigma_ref when not given (0.1 hPa for an external
+  /// pressure, the standard error of the window mean for one from the log),
+  /// whether the sensor's offset is common to the reference, and the drift.
+  double sigma_ref_default_pa = 10.0;
+  std::string sigma_ref_default_source;
+  bool offset_common = false;
+  DriftUncertainty drift_uncertainty;
   std::vector<std::string> notes;       ///< for stderr and the manifest
 };
 
@@ -168,6 +193,7 @@ class ReferenceResolver {
                         std::string_view source);
   void build_drift_track(Reference& ref, const std::vector<RestSample>& window,
                          std::string_view source);
+  void set_budget_inputs(Reference& ref, const std::vector<RestSample>& window) const;
 
   StationaryDetector detector_;
   std::shared_ptr<const BaseSeries> base_;
