@@ -15,13 +15,13 @@
 
 namespace {
 
-using Catch::Detail::Approx;
 using baroz::BudgetInputs;
 using baroz::ErrorBudget;
 using baroz::ErrorBudgetOptions;
 using baroz::HeightEval;
 using baroz::MonteCarlo;
 using baroz::MonteCarloBand;
+using Catch::Detail::Approx;
 
 constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
 
@@ -67,8 +67,12 @@ struct Isothermal {
   }
 };
 
-double upper_half(const MonteCarloBand& b, const HeightEval& e) { return b.high_m - e.height_m; }
-double lower_half(const MonteCarloBand& b, const HeightEval& e) { return e.height_m - b.low_m; }
+double upper_half(const MonteCarloBand& b, const HeightEval& e) {
+  return b.high_m - e.height_m;
+}
+double lower_half(const MonteCarloBand& b, const HeightEval& e) {
+  return e.height_m - b.low_m;
+}
 
 }  // namespace
 

@@ -136,8 +136,7 @@ MonteCarloBand MonteCarlo::band(const PerturbedHeight& height, double pressure_p
   const double q_low = quantile_type7(scratch.data(), m, 0, lower_probability_, &j_low);
   // The upper index is >= the lower one and x[0..j_low] are the j_low + 1
   // smallest: the second selection only needs the rest.
-  const double q_high =
-      quantile_type7(scratch.data(), m, j_low + 1, upper_probability_, &j_high);
+  const double q_high = quantile_type7(scratch.data(), m, j_low + 1, upper_probability_, &j_high);
   band.low_m = nominal.height_m + q_low;
   band.high_m = nominal.height_m + q_high;
   return band;
