@@ -3,9 +3,11 @@
 
 #include <unistd.h>
 
+#include <cmath>
 #include <filesystem>
 #include <fstream>
 #include <sstream>
+#include <stdexcept>
 #include <string>
 #include <string_view>
 #include <vector>
@@ -82,6 +84,28 @@ inline std::vector<std::string> split(const std::string& s, char sep) {
     }
   }
   out.push_back(cur);
+  return out;
+}
+
+/// Column `name` of CSV `text` (header in line 0), as strings per row.
+/// Throws when the text is empty or has no such column (the test fails).
+inline std::vector<std::string> column(const std::string& text, const std::string& name) {
+  const auto lines = split_lines(text);
+  if (lines.empty()) throw std::runtime_error("no CSV text");
+  const auto header = split(lines[0], ',');
+  std::size_t c = header.size();
+  for (std::size_t i = 0; i < header.size(); ++i)
+    if (header[i] == name) c = i;
+  if (c == header.size()) throw std::runtime_error("no column " + name + " in " + lines[0]);
+  std::vector<std::string> out;
+  for (std::size_t i = 1; i < lines.size(); ++i) out.push_back(split(lines[i], ',')[c]);
+  return out;
+}
+
+/// Fields as numbers, NaN for an empty field.
+inline std::vector<double> numbers(const std::vector<std::string>& texts) {
+  std::vector<double> out;
+  for (const auto& t : texts) out.push_back(t.empty() ? std::nan("") : std::stod(t));
   return out;
 }
 

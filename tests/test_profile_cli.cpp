@@ -16,25 +16,6 @@ using namespace baroz::test;
 
 namespace {
 
-/// Column `name` of CSV `text` (header in line 0), as strings per row.
-std::vector<std::string> column(const std::string& text, const std::string& name) {
-  const auto lines = split_lines(text);
-  REQUIRE(!lines.empty());
-  const auto header = split(lines[0], ',');
-  std::size_t c = header.size();
-  for (std::size_t i = 0; i < header.size(); ++i)
-    if (header[i] == name) c = i;
-  REQUIRE(c < header.size());
-  std::vector<std::string> out;
-  for (std::size_t i = 1; i < lines.size(); ++i) out.push_back(split(lines[i], ',')[c]);
-  return out;
-}
-
-std::vector<double> numbers(const std::vector<std::string>& texts) {
-  std::vector<double> out;
-  for (const auto& t : texts) out.push_back(t.empty() ? NAN : std::stod(t));
-  return out;
-}
 
 /// A profile table of the 1976 standard atmosphere, a node every 50 m'
 /// from `bottom_m` to `top_m` (the layer bases 11, 20, 32 and 47 km' are

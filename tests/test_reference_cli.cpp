@@ -94,26 +94,6 @@ std::string base_log(const Fn& ground, double from_s, double to_s, double step_s
   return s;
 }
 
-/// Column `name` of CSV `text` (header in line 0), as strings per row.
-std::vector<std::string> column(const std::string& text, const std::string& name) {
-  const auto lines = split_lines(text);
-  REQUIRE(!lines.empty());
-  const auto header = split(lines[0], ',');
-  std::size_t c = header.size();
-  for (std::size_t i = 0; i < header.size(); ++i)
-    if (header[i] == name) c = i;
-  INFO("column " << name << " in " << lines[0]);
-  REQUIRE(c < header.size());
-  std::vector<std::string> out;
-  for (std::size_t i = 1; i < lines.size(); ++i) out.push_back(split(lines[i], ',')[c]);
-  return out;
-}
-
-std::vector<double> numbers(const std::vector<std::string>& texts) {
-  std::vector<double> out;
-  for (const auto& t : texts) out.push_back(t.empty() ? NAN : std::stod(t));
-  return out;
-}
 
 /// Seconds since kEpoch of every row, from the time column as given (so that
 /// rejected rows, which move elapsed_s, do not shift them).

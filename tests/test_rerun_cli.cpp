@@ -44,20 +44,6 @@ std::string rerun_note(const std::string& err) {
   return {};
 }
 
-/// Column `name` of CSV `text` as numbers.
-std::vector<double> column(const std::string& text, const std::string& name) {
-  const auto lines = split_lines(text);
-  REQUIRE(!lines.empty());
-  const auto header = split(lines[0], ',');
-  std::size_t c = header.size();
-  for (std::size_t i = 0; i < header.size(); ++i)
-    if (header[i] == name) c = i;
-  REQUIRE(c < header.size());
-  std::vector<double> out;
-  for (std::size_t i = 1; i < lines.size(); ++i) out.push_back(std::stod(split(lines[i], ',')[c]));
-  return out;
-}
-
 /// Runs the test from another working directory, restored at the end.
 struct WorkingDirectory {
   std::filesystem::path saved = std::filesystem::current_path();
@@ -142,8 +128,8 @@ TEST_CASE("a new reference replaces every recorded reference option", "[rerun][c
   // The heights follow the hypsometric equation for the new reference.
   r = run_cli({"height", "--rerun", m, "--ref-pressure", "1002.1", "--ref-temperature", "288.15"});
   REQUIRE(r.status == 0);
-  const auto p = column(r.out, "pressure_hpa");
-  const auto h = column(r.out, "height_m");
+  const auto p = numbers(column(r.out, "pressure_hpa"));
+  const auto h = numbers(column(r.out, "height_m"));
   REQUIRE(p.size() == 2371);  // every row of the demo log
   // Source: USSA76 (reference-values.md 1.1): R* = 8.31432, M0 = 28.9644e-3,
   // g0 = 9.80665, r0 = 6356766 m; isothermal dH = (R* T / (g0 M0)) ln(p_ref/p),
