@@ -11,7 +11,11 @@
 #include <cstddef>
 #include <cstdint>
 #include <limits>
+#include <numbers>
+#include <random>
 #include <vector>
+
+#include "baroz/core/robust_statistics.hpp"
 
 #include "baroz/core/error.hpp"
 #include "baroz/models/isothermal_model.hpp"
@@ -169,7 +173,7 @@ TEST_CASE("profile dh_dt_random weights from ProfilePoint agree with the pressur
 
 TEST_CASE("profile random and bias temperature errors scale differently with layers and samples",
           "[uncertainty][models]") {
-  // L equal layers in ln p (width D), every node the median of n samples,
+  // L equal layers in ln p (width D), every node the mean of n samples,
   // from node 0 (p_ref) to node L (p). A bias dT shifts every layer's
   // thickness alike: dh = (R/g0) L D dT. Random errors average within a
   // node (sigma/sqrt(n)) and add in quadrature across layers: with the
@@ -252,6 +256,87 @@ TEST_CASE("profile builder nodes count the samples of their medians", "[uncertai
   CHECK(one.nodes()[0].samples == thinned.stored_values());
   CHECK(one.nodes()[0].samples < static_cast<std::uint32_t>(kMany));
   CHECK(one.nodes()[0].samples >= ProfileBuilder::kLayerCapacity / 2);
+}
+
+TEST_CASE("the variance of a median of n normal values", "[uncertainty][models]") {
+  // Source: exact for n = 1 (one value) and n = 2 (the mean of two:
+  // sigma^2/2); Laplace's large-sample variance pi sigma^2 / (2n) (Kendall &
+  // Stuart, The Advanced Theory of Statistics, vol. 1; from memory).
+  CHECK(median_variance_factor(1) == 1.0);
+  CHECK(median_variance_factor(2) == 0.5);
+  for (std::size_t n : {100u, 1000u, 100000u})
+    CHECK(relative_difference(median_variance_factor(n),
+                              std::numbers::pi / (2.0 * static_cast<double>(n))) <
+          1.2 / static_cast<double>(n));
+
+  // Against simulation: 40000 medians of n standard normals (std::mt19937_64,
+  // seeded). The sample variance's relative standard error is sqrt(2/T) =
+  // 0.7 %; limits: 4 % for odd n, and for even n at least the truth (less
+  // 2 %) and at most 20 % above it (the approximation errs wide there).
+  std::mt19937_64 rng(20261202);
+  std::normal_distribution<double> normal;
+  constexpr int kTrials = 40000;
+  std::vector<double> values;
+  for (std::size_t n : {1u, 2u, 3u, 4u, 5u, 7u, 10u, 15u, 31u, 60u}) {
+    double sum = 0.0, squares = 0.0;
+    for (int t = 0; t < kTrials; ++t) {
+      values.resize(n);
+      for (double& v : values) v = normal(rng);
+      const double m = median_in_place(values);
+      sum += m;
+      squares += m * m;
+    }
+    const double mean = sum / kTrials;
+    const double variance = squares / kTrials - mean * mean;
+    const double factor = median_variance_factor(n);
+    INFO("n = " << n << ": simulated " << variance << ", factor " << factor << ", 1/n "
+                << 1.0 / static_cast<double>(n));
+    if (n % 2 == 1 || n == 2) {
+      CHECK(relative_difference(factor, variance) < 0.04);
+    } else {
+      CHECK(factor >= 0.98 * variance);
+      CHECK(factor <= 1.20 * variance);
+    }
+    // A median is noisier than a mean of as many values (n >= 3).
+    if (n >= 3) CHECK(variance > 1.1 / static_cast<double>(n));
+  }
+}
+
+TEST_CASE("profile builder nodes are medians and carry a median's random error",
+          "[uncertainty][models]") {
+  // Source: robust_statistics.hpp (median_variance_factor) and the file
+  // comment of temperature_profile.hpp: S = sum_i (W_i(p) - W_i(p_ref))^2 v_i.
+  // Every node the median of n = 9 samples: each v_i is
+  // median_variance_factor(9) instead of 1/9, so the random weight sum is
+  // 9 median_variance_factor(9) (= 1.53) times that of mean nodes, and
+  // dh_dt_random sqrt of it; the bias dh_dt is unchanged.
+  std::vector<ProfileNode> means;
+  for (int k = 0; k <= 12; ++k)
+    means.push_back(ProfileNode{100000.0 * std::exp(-0.05 * k), 260.0 - 2.0 * k, kNaN, 9});
+  std::vector<ProfileNode> medians = means;
+  for (ProfileNode& node : medians) node.median = true;
+  const ReferencePoint ref{means.front().pressure_pa, 288.15, 0.0};
+  const double p = 100000.0 * std::exp(-0.05 * 10.5);
+  ProfileModel mean_model{TemperatureProfile(means)};
+  ProfileModel median_model{TemperatureProfile(medians)};
+  const HeightEval a = mean_model.evaluate(p, kNaN, ref);
+  const HeightEval b = median_model.evaluate(p, kNaN, ref);
+  REQUIRE(a.valid);
+  REQUIRE(b.valid);
+  CHECK(b.height_m == a.height_m);
+  CHECK(b.dh_dt == a.dh_dt);
+  CHECK(relative_difference(b.dh_dt_random / a.dh_dt_random,
+                            std::sqrt(9.0 * median_variance_factor(9))) <= 1e-12);
+
+  // The builder marks its nodes as medians.
+  ProfileBuilder builder(ProfileOptions{ProfileLeg::kAscent, 50.0});
+  for (int k = 0; k < 30; ++k) {
+    const double h = 5.0 + 140.0 * k / 30.0;
+    builder.add(ussa76::pressure_at(h), ussa76::temperature_at(h), kNaN);
+  }
+  const TemperatureProfile built = builder.build();
+  REQUIRE(built.size() == 3);
+  for (const ProfileNode& node : built.nodes()) CHECK(node.median);
 }
 
 TEST_CASE("profile nodes need at least one sample", "[uncertainty][models]") {

@@ -10,6 +10,7 @@
 
 #include "baroz/core/constants.hpp"
 #include "baroz/core/error.hpp"
+#include "baroz/core/robust_statistics.hpp"
 #include "baroz/models/standard_atmosphere.hpp"
 
 namespace baroz {
@@ -73,16 +74,22 @@ TemperatureProfile::TemperatureProfile(std::vector<ProfileNode> nodes, double co
     for (; j < nodes.size() && std::log(nodes[j].pressure_pa) == log_p; ++j) {
       sum_t += nodes[j].temperature_k;
       sum_tv += nodes[j].virtual_temperature_k;
-      sum_inverse_samples += 1.0 / static_cast<double>(nodes[j].samples);
+      sum_inverse_samples += nodes[j].median ? median_variance_factor(nodes[j].samples)
+                                             : 1.0 / static_cast<double>(nodes[j].samples);
     }
     const auto count = static_cast<double>(j - i);
-    // The mean of k temperatures of n_j samples each has the random
-    // variance sigma^2 sum_j (1/k)^2 / n_j: that of k^2 / sum(1/n_j) samples.
+    // The mean of k temperatures of variances sigma^2 v_j has the random
+    // variance sigma^2 sum_j (1/k)^2 v_j: that of a mean of k^2 / sum(v_j)
+    // samples. (One node keeps its own count and kind.)
     const double inverse_samples = sum_inverse_samples / (count * count);
     constexpr double kMaxSamples = std::numeric_limits<std::uint32_t>::max();
     const double samples = std::fmin(std::round(1.0 / inverse_samples), kMaxSamples);
-    nodes_.push_back(ProfileNode{nodes[i].pressure_pa, sum_t / count, sum_tv / count,
-                                 static_cast<std::uint32_t>(std::fmax(samples, 1.0))});
+    if (j == i + 1) {
+      nodes_.push_back(nodes[i]);
+    } else {
+      nodes_.push_back(ProfileNode{nodes[i].pressure_pa, sum_t / count, sum_tv / count,
+                                   static_cast<std::uint32_t>(std::fmax(samples, 1.0)), false});
+    }
     log_p_.push_back(log_p);
     inverse_samples_.push_back(inverse_samples);
     i = j;
@@ -577,7 +584,8 @@ TemperatureProfile ProfileBuilder::build() const {
     nodes.push_back(ProfileNode{std::exp(median_of(entries, &Entry::log_pressure)),
                                 median_of(entries, &Entry::temperature_k),
                                 median_of(entries, &Entry::virtual_temperature_k),
-                                static_cast<std::uint32_t>(std::min(entries.size(), kMaxSamples))});
+                                static_cast<std::uint32_t>(std::min(entries.size(), kMaxSamples)),
+                                true});
   }
   // Covered: from the lower bound of the lowest layer to the upper bound of
   // the highest one.

@@ -29,15 +29,16 @@
 //   W_k = D_k-1/2 + x - x^2/(2 D_k),   W_k+1 = x^2/(2 D_k),   W_j = 0 (j > k+1).
 // Beyond an end node e the extension's temperature follows T_v,e (a shift of
 // T_v,e shifts it alike), so W_e grows by ln(p_e/p) (negative below node 0).
-// Node i's temperature, the median of n_i samples with independent errors of
-// sigma, has the variance sigma^2/n_i (GUM JCGM 100:2008 4.2.3, for a mean),
-// so the variance of H(p) - H(p_ref) is (R/g0)^2 sigma^2 S (GUM eq. 10) with
-//   S(p_ref, p) = sum_i (W_i(p) - W_i(p_ref))^2 / n_i,
+// Node i's temperature, the mean of n_i samples with independent errors of
+// sigma, has the variance sigma^2 v_i, v_i = 1/n_i (GUM JCGM 100:2008
+// 4.2.3); a median's (ProfileBuilder's nodes) has v_i =
+// median_variance_factor(n_i), about pi/(2 n_i) (robust_statistics.hpp).
+// So the variance of H(p) - H(p_ref) is (R/g0)^2 sigma^2 S (GUM eq. 10) with
+//   S(p_ref, p) = sum_i (W_i(p) - W_i(p_ref))^2 v_i,
 // computed in O(1) from the weights of the two points (ProfilePoint::weights)
-// and a prefix sum of W_j^2/n_j over fully crossed nodes
+// and a prefix sum of W_j^2 v_j over fully crossed nodes
 // (random_weight_sum()). The error is in T; T_v = T (1 + 0.61 q) carries it
-// with the factor T_v/T <= 1.02, taken as 1. (A median's variance is about
-// pi/2 times a mean's for normal errors; n_i counts samples as for a mean.)
+// with the factor T_v/T <= 1.02, taken as 1.
 //
 // ProfileBuilder: fixed pressure layers (boundaries at the standard
 // atmosphere's pressures of multiples of `layer_m` geopotential metres), one
@@ -64,11 +65,14 @@ struct ProfileNode {
   double temperature_k = 0.0;   ///< air temperature T [K]
   /// Virtual temperature T_v [K]; NaN: no humidity known, T_v = T.
   double virtual_temperature_k = std::numeric_limits<double>::quiet_NaN();
-  /// Number of samples the node's temperature is the median (or mean) of,
-  /// >= 1: its random error is that of one sample over sqrt(samples). 1 for
-  /// a node that is one measurement (a --profile table row) or not a
-  /// measurement.
+  /// Number of samples the node's temperature is the mean (or, with
+  /// `median`, the median) of, >= 1. 1 for a node that is one measurement (a
+  /// --profile table row) or not a measurement.
   std::uint32_t samples = 1;
+  /// The temperature is the median of the samples (ProfileBuilder's nodes):
+  /// its random variance is median_variance_factor(samples) of one sample's
+  /// instead of 1 / samples.
+  bool median = false;
 };
 
 /// Where a pressure sits among the weights of the nodes in the integral of
@@ -166,7 +170,7 @@ class TemperatureProfile {
   std::vector<double> node_h_;          // H_i [m'], node_h_[0] = 0
   std::vector<double> tv_slope_;        // s_i = dT_v/dx on segment i [K]
   std::vector<double> t_slope_;         // dT/dx on segment i [K]
-  std::vector<double> inverse_samples_;  // 1 / n_i (exact for merged nodes)
+  std::vector<double> inverse_samples_;  // v_i: 1/n_i, or a median's factor (exact when merged)
   std::vector<double> full_weight_;      // W_i of a fully crossed node: (D_i-1 + D_i)/2
   std::vector<double> weight_prefix_;    // sum_{j<i} full_weight_j^2 / n_j (n + 1 values)
   End bottom_;
