@@ -397,43 +397,117 @@ TEST_CASE("monte carlo quantiles follow Hyndman and Fan definition 7",
   o.confidence = 0.6;  // quantiles 0.2 and 0.8
   const MonteCarlo mc(o);
 
-  // Source: Hyndman & Fan (1996), definition 7: for the sorted valid values
-  // 1..5 (n = 5), Q(0.2) = x_(0) + 0.8 (x_(1) - x_(0)) = 1.8 and
-  // Q(0.8) = x_(3) + 0.2 (x_(4) - x_(3)) = 4.2; sd of 1..5 = sqrt(2.5).
-  // The NaN run is skipped.
+  // Source: Hyndman & Fan (1996), definition 7: for the sorted values
+  // 1..6 (n = 6), Q(0.2) = x_(1) + 0 = 2 and Q(0.8) = x_(4) = 5; at
+  // P = 0.5 (quantiles 0.25 and 0.75), Q(0.25) = x_(1) + 0.25 (x_(2) -
+  // x_(1)) = 2.25 and Q(0.75) = x_(3) + 0.75 (x_(4) - x_(3)) = 4.75.
+  // sd of 1..6 = sqrt(3.5).
+  values = {5.0, 6.0, 1.0, 4.0, 2.0, 3.0};
+  next = 0;
+  const MonteCarloBand full = mc.band(replay, 1000.0, 1000.0, zero, quiet_inputs(), 0);
+  CHECK(full.valid_runs == 6);
+  CHECK(full.complete());
+  CHECK(full.low_m == Approx(2.0).epsilon(1e-14));
+  CHECK(full.high_m == Approx(5.0).epsilon(1e-14));
+  CHECK(full.sigma_m == Approx(std::sqrt(3.5)).epsilon(1e-14));
+  ErrorBudgetOptions half = o;
+  half.confidence = 0.5;
+  const MonteCarlo mc_half(half);
+  next = 0;
+  const MonteCarloBand quartiles = mc_half.band(replay, 1000.0, 1000.0, zero, quiet_inputs(), 0);
+  CHECK(quartiles.low_m == Approx(2.25).epsilon(1e-14));
+  CHECK(quartiles.high_m == Approx(4.75).epsilon(1e-14));
+
+  // A failed run (NaN) counts at -infinity for the lower limit and at
+  // +infinity for the upper one (monte_carlo.hpp): for 5, NaN, 1, 4, 2, 3
+  // the orders are (-inf, 1, 2, 3, 4, 5) and (1, 2, 3, 4, 5, +inf), so
+  // Q(0.2) = 1 and Q(0.8) = 5 by the same definition; the sd is of the
+  // valid runs 1..5, sqrt(2.5).
   values = {5.0, kNaN, 1.0, 4.0, 2.0, 3.0};
   next = 0;
   const MonteCarloBand b = mc.band(replay, 1000.0, 1000.0, zero, quiet_inputs(), 0);
   CHECK(b.valid_runs == 5);
-  CHECK(b.low_m == Approx(1.8).epsilon(1e-14));
-  CHECK(b.high_m == Approx(4.2).epsilon(1e-14));
+  CHECK(b.complete());
+  CHECK(b.low_m == Approx(1.0).epsilon(1e-14));
+  CHECK(b.high_m == Approx(5.0).epsilon(1e-14));
   CHECK(b.sigma_m == Approx(std::sqrt(2.5)).epsilon(1e-14));
 
-  // The band is relative to the nominal height: shifting it shifts the
-  // band (the deviations are h_k - nominal). Source: monte_carlo.hpp.
+  // The limits are the quantiles of the runs' heights: the deviations are
+  // taken from the nominal height and added back to it, so another nominal
+  // height gives the same band. Source: monte_carlo.hpp.
   HeightEval shifted;
   shifted.height_m = 2.0;
   next = 0;
   const MonteCarloBand s = mc.band(replay, 1000.0, 1000.0, shifted, quiet_inputs(), 0);
-  CHECK(s.low_m == Approx(1.8).epsilon(1e-14));
-  CHECK(s.high_m == Approx(4.2).epsilon(1e-14));
+  CHECK(s.low_m == Approx(1.0).epsilon(1e-14));
+  CHECK(s.high_m == Approx(5.0).epsilon(1e-14));
 
-  // Source: monte_carlo.hpp: one valid run gives its value and no sd; none
-  // gives NaN.
+  // Source: monte_carlo.hpp: with one valid run of six, both limits fall
+  // among the failed runs (positions 1 - 5 < 0 and 4 > 0): not drawn, no sd.
   values = {kNaN, kNaN, 7.0, kNaN, kNaN, kNaN};
   next = 0;
   const MonteCarloBand one = mc.band(replay, 1000.0, 1000.0, zero, quiet_inputs(), 0);
   CHECK(one.valid_runs == 1);
-  CHECK(one.low_m == 7.0);
-  CHECK(one.high_m == 7.0);
+  CHECK_FALSE(one.complete());
+  CHECK(std::isnan(one.low_m));
+  CHECK(std::isnan(one.high_m));
   CHECK(std::isnan(one.sigma_m));
   values.assign(6, kNaN);
   next = 0;
   const MonteCarloBand none = mc.band(replay, 1000.0, 1000.0, zero, quiet_inputs(), 0);
   CHECK(none.valid_runs == 0);
+  CHECK_FALSE(none.complete());
   CHECK(std::isnan(none.low_m));
   CHECK(std::isnan(none.high_m));
   CHECK(std::isnan(none.sigma_m));
+}
+
+TEST_CASE("monte carlo failed runs widen the band and never narrow it",
+          "[uncertainty][montecarlo]") {
+  // h = a (p_ref - p) (a = 8.324 m/hPa; Source: reference-values.md section
+  // 6 table), with sigma_p = 10 Pa. Runs whose pressure lies more than
+  // `edge` sigma above nominal are declared failed, as a model edge would
+  // do: they are the lowest heights of the full set.
+  const double a = 8.324e-2;
+  const double p = 90000.0;
+  const double p_ref = 101325.0;
+  ErrorBudgetOptions o = quiet_options(20000, 11);
+  o.sigma_p_pa = 10.0;
+  const MonteCarlo mc(o);
+  HeightEval e;
+  e.height_m = a * (p_ref - p);
+  e.dh_dp = -a;
+  e.dh_dpref = a;
+  auto with_edge = [&](double edge) {
+    return
+        [=](double pp, double pr) { return pp > p + edge * o.sigma_p_pa ? kNaN : a * (pr - pp); };
+  };
+  const MonteCarloBand full = mc.band(with_edge(1e9), p, p_ref, e, quiet_inputs(), 5);
+  REQUIRE(full.valid_runs == o.monte_carlo_runs);
+
+  // Source: N(0,1) tail above 2.5 is 0.62 % (NIST/SEMATECH e-Handbook
+  // 1.3.6.7.1), less than (1 - P)/2 = 2.5 %: both limits are drawn. The
+  // failed runs are the lowest heights, so counting them at -infinity
+  // puts the lower limit exactly where the full set has it; counting them
+  // at +infinity moves the upper limit out (conservative), by less than
+  // the 0.62 % quantile shift (from 97.5 % to ~98.1 %: 1.960 -> 2.07 sigma).
+  const MonteCarloBand edge = mc.band(with_edge(2.5), p, p_ref, e, quiet_inputs(), 5);
+  INFO("valid " << edge.valid_runs << ", full [" << full.low_m << ", " << full.high_m
+                << "], with failures [" << edge.low_m << ", " << edge.high_m << "]");
+  CHECK(edge.valid_runs < o.monte_carlo_runs);
+  CHECK(edge.valid_runs > o.monte_carlo_runs * 99 / 100);
+  REQUIRE(edge.complete());
+  CHECK(edge.low_m == Approx(full.low_m).epsilon(1e-12));
+  CHECK(edge.high_m >= full.high_m);
+  CHECK(edge.high_m - e.height_m < 2.2 * a * o.sigma_p_pa);
+
+  // Source: N(0,1) tail above 1.0 is 15.9 % (same table), more than 2.5 %:
+  // the lower limit would sit among the failed runs and is not drawn.
+  const MonteCarloBand broken = mc.band(with_edge(1.0), p, p_ref, e, quiet_inputs(), 5);
+  CHECK_FALSE(broken.complete());
+  CHECK(std::isnan(broken.low_m));
+  // Nor the upper one: the failed runs also count above every valid run.
+  CHECK(std::isnan(broken.high_m));
 }
 
 TEST_CASE("monte carlo rejects a confidence outside (0, 1)", "[uncertainty][montecarlo]") {

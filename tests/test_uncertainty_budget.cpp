@@ -612,6 +612,61 @@ TEST_CASE("monte carlo band agrees with the linear band below 20 km", "[uncertai
   CHECK(worst <= 0.10);
 }
 
+TEST_CASE("monte carlo falls back to the linear band where runs leave the model",
+          "[uncertainty][cli]") {
+  // A rest at 1013.25 hPa, then samples at 500, 100, 10, 1, 0.5 and 0.05
+  // hPa, with --sigma-p 0.1 hPa and no sensor offset (--sigma-p-abs 0, so
+  // that the noise alone reaches the edge). At 0.05 hPa (5 Pa, ~69 km in the standard
+  // atmosphere) a 10 Pa noise makes the pressure <= 0 in
+  // P(N(0,1) < -0.5) = 31 % of the runs (Source: NIST/SEMATECH e-Handbook
+  // 1.3.6.7.1), more than (1 - 0.95)/2: no Monte Carlo limit can be drawn
+  // there, and the row keeps the linear band, flagged linear_band. At 0.5
+  // hPa the failures are P(N < -5) = 3e-7 of the runs: the band is the
+  // Monte Carlo one. Source for the fallback rule: monte_carlo.hpp.
+  TempDir d;
+  std::string text = "time,pressure_hpa\n";
+  for (int t = 0; t < 60; ++t) text += fmt::format("{},1013.2500\n", kEpoch + t);
+  const double top[] = {500.0, 100.0, 10.0, 1.0, 0.5, 0.05};
+  for (int k = 0; k < 6; ++k) text += fmt::format("{},{}\n", kEpoch + 60 + 600 * k, top[k]);
+  const std::string log = d.file("high.csv", text);
+  auto run = [&](std::vector<std::string> extra) {
+    std::vector<std::string> args = {"height",        "--model", "standard",   "--sigma-p", "0.1",
+                                     "--sigma-p-abs", "0",       "--manifest", d / "m.json"};
+    args.insert(args.end(), extra.begin(), extra.end());
+    args.push_back(log);
+    auto r = run_cli(args);
+    INFO(r.err);
+    REQUIRE(r.status == 0);
+    return r;
+  };
+  const auto linear = run({});
+  const auto mc = run({"--monte-carlo", "500"});
+  const auto flags = baroz::test::column(mc.out, "flags");
+  const auto lo = baroz::test::numbers(baroz::test::column(mc.out, "height_low_m"));
+  const auto hi = baroz::test::numbers(baroz::test::column(mc.out, "height_high_m"));
+  const auto lin_lo = baroz::test::numbers(baroz::test::column(linear.out, "height_low_m"));
+  const auto lin_hi = baroz::test::numbers(baroz::test::column(linear.out, "height_high_m"));
+  REQUIRE(flags.size() == 66);  // every row written: read = written
+  for (std::size_t i = 0; i < 65; ++i) {
+    INFO("row " << i << ": flags '" << flags[i] << "'");
+    CHECK(flags[i].find("linear_band") == std::string::npos);
+  }
+  CHECK(flags[65].find("linear_band") != std::string::npos);
+  CHECK(lo[65] == lin_lo[65]);
+  CHECK(hi[65] == lin_hi[65]);
+  // At 0.5 hPa the Monte Carlo band is its own: asymmetric (h ~ ln p),
+  // longer above than below. Source: monte_carlo.hpp, h ~ -H ln p.
+  const auto h = baroz::test::numbers(baroz::test::column(mc.out, "height_m"));
+  CHECK(hi[64] - h[64] > h[64] - lo[64]);
+  CHECK(hi[64] != lin_hi[64]);
+  CHECK(mc.err.find("flag linear_band") != std::string::npos);
+
+  simdjson::dom::parser parser;
+  simdjson::dom::element u = parser.load(d / "m.json")["inputs"].at(0)["uncertainty"];
+  CHECK(u["monte_carlo"]["rows_linear_band"].get_uint64().value() == 1);
+  CHECK(u["monte_carlo"]["rows_with_failed_runs"].get_uint64().value() >= 1);
+}
+
 // ===========================================================================
 // 5. Coverage on synthetic noisy flights with known errors.
 

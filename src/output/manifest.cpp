@@ -213,6 +213,15 @@ void write_budget_point(JsonWriter& j, const BudgetPoint& b) {
 void write_uncertainty(JsonWriter& j, const HeightReport& r) {
   j.begin_object();
   j.key("band"); j.value(r.band_method);
+  j.key("monte_carlo");
+  if (r.band_method != "linear") {
+    j.begin_object();
+    j.key("rows_with_failed_runs"); j.value(r.monte_carlo_failed_rows);
+    j.key("rows_linear_band"); j.value(r.linear_band_rows);
+    j.end_object();
+  } else {
+    j.null();
+  }
   j.key("coverage_factor"); j.value(r.coverage_factor);
   j.key("sigma_ref_hpa"); j.value(r.sigma_ref_pa / 100.0);
   j.key("sigma_ref_from"); j.value(r.sigma_ref_source);

@@ -40,6 +40,13 @@ bool is_json_number(std::string_view s) {
   return i == n;
 }
 
+/// The longest flags field: every name, quoted, with its separator.
+constexpr std::size_t kMaxFlagsChars = [] {
+  std::size_t n = 2;  // the NDJSON brackets
+  for (std::string_view name : kFlagNames) n += name.size() + 3;
+  return n;
+}();
+
 }  // namespace
 
 std::string flags_text(std::uint32_t flags) {
@@ -124,8 +131,9 @@ void SeriesWriter::write_header() {
 
 void SeriesWriter::write_row(const SeriesRow& r) {
   // Worst case: every byte of the time as \uXXXX, every number at full
-  // width with its NDJSON key.
-  reserve(6 * r.time_text.size() + (16 + options_.sigma_columns.size()) * (kMaxFixedChars + 32));
+  // width with its NDJSON key, every flag.
+  reserve(6 * r.time_text.size() + (16 + options_.sigma_columns.size()) * (kMaxFixedChars + 32) +
+          kMaxFlagsChars);
   char* const start = buffer_.data() + used_;
   char* p = start;
   const bool csv = options_.format == OutputFormat::kCsv;

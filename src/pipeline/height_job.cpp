@@ -477,8 +477,14 @@ bool HeightJob::emit(Sample& s, bool in_window) {
           return h.valid ? h.height_m : kMissing;
         },
         s.pressure_pa, reference_pa, e, inputs, report_.rows_read);
-    low = mc.low_m;
-    high = mc.high_m;
+    if (mc.valid_runs < monte_carlo_->runs()) ++report_.monte_carlo_failed_rows;
+    if (mc.complete()) {
+      low = mc.low_m;
+      high = mc.high_m;
+    } else {  // too many runs went past the model's edge: keep the linear band
+      s.flags |= kFlagLinearBand;
+      ++report_.linear_band_rows;
+    }
   }
 
   if (!have_first_time_) {
@@ -787,6 +793,14 @@ HeightReport HeightJob::run() {
   if (!writer_started) start_writer(true);
   drain_smoother(true);
   writer_->flush();
+  if (report_.monte_carlo_failed_rows > 0) {
+    diag_.note(input_.name(),
+               fmt::format("Monte Carlo: in {} rows some runs gave no height (their perturbed "
+                           "pressure left the model's range); they count in the tail that "
+                           "widens the band. {} rows, where too many failed to draw a limit, "
+                           "carry the linear band instead (flag linear_band)",
+                           report_.monte_carlo_failed_rows, report_.linear_band_rows));
+  }
   if (collect_) {
     collect_->source = input_.name();
     collect_->absolute_time = report_.absolute_time;

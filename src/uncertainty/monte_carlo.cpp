@@ -48,11 +48,12 @@ std::pair<double, double> normal_pair(std::uint64_t state, std::uint64_t i) {
   return {r * std::cos(angle), r * std::sin(angle)};
 }
 
-/// Hyndman & Fan definition 7 for the n values at `x` (reordered), when the
-/// lowest `start` of them are already the `start` smallest in place. Returns
-/// the quantile and leaves x[j] as the j-th order statistic (j = floor((n-1)p)).
-double quantile_type7(double* x, std::size_t n, std::size_t start, double p, std::size_t* j_out) {
-  const double h = static_cast<double>(n - 1) * p;
+/// The value at fractional position h (0 <= h <= n - 1) of the sorted order
+/// of the n values at `x` (reordered), interpolating linearly between the
+/// order statistics floor(h) and floor(h) + 1: Hyndman & Fan definition 7
+/// when h = (n - 1) p. The lowest `start` values must already be the `start`
+/// smallest, in place. Leaves x[j] as the j-th order statistic (j = floor(h)).
+double order_statistic(double* x, std::size_t n, std::size_t start, double h, std::size_t* j_out) {
   std::size_t j = static_cast<std::size_t>(std::floor(h));
   if (j > n - 1) j = n - 1;
   const double g = h - static_cast<double>(j);
@@ -131,14 +132,29 @@ MonteCarloBand MonteCarlo::band(const PerturbedHeight& height, double pressure_p
     for (std::size_t i = 0; i < m; ++i) squares += (scratch[i] - mean) * (scratch[i] - mean);
     band.sigma_m = std::sqrt(squares / static_cast<double>(m - 1));
   }
+  // Type-7 positions in the order of all n runs. A failed run is counted in
+  // the tail that widens the band: at -infinity for the lower limit, at
+  // +infinity for the upper one. Its height is unknown, and it fails because
+  // it went past the model's edge, so neither limit can be drawn in by it.
+  // A limit whose position falls among the failed runs is left NaN.
+  const std::size_t failed = n - m;
+  const double h_low =
+      static_cast<double>(n - 1) * lower_probability_ - static_cast<double>(failed);
+  const double h_high = static_cast<double>(n - 1) * upper_probability_;
+  const double last = static_cast<double>(m - 1);
   std::size_t j_low = 0;
-  std::size_t j_high = 0;
-  const double q_low = quantile_type7(scratch.data(), m, 0, lower_probability_, &j_low);
-  // The upper index is >= the lower one and x[0..j_low] are the j_low + 1
-  // smallest: the second selection only needs the rest.
-  const double q_high = quantile_type7(scratch.data(), m, j_low + 1, upper_probability_, &j_high);
-  band.low_m = nominal.height_m + q_low;
-  band.high_m = nominal.height_m + q_high;
+  std::size_t start_high = 0;
+  if (h_low >= 0.0 && h_low <= last) {
+    band.low_m = nominal.height_m + order_statistic(scratch.data(), m, 0, h_low, &j_low);
+    // x[0..j_low] are now the j_low + 1 smallest: the upper selection only
+    // needs the rest when its position is beyond them.
+    start_high = j_low + 1;
+  }
+  if (h_high <= last) {
+    std::size_t j_high = 0;
+    band.high_m =
+        nominal.height_m + order_statistic(scratch.data(), m, start_high, h_high, &j_high);
+  }
   return band;
 }
 

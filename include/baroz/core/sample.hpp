@@ -26,13 +26,14 @@ enum SampleFlag : std::uint32_t {
   kFlagExtrapolated = 1u << 7,   ///< the model was used outside its valid range
   kFlagSpike = 1u << 8,          ///< the spike filter found an outlier (row kept)
   kFlagNoBase = 1u << 9,         ///< outside the base-station log's span (nearest value held)
+  kFlagLinearBand = 1u << 10,    ///< --monte-carlo left a limit undrawn: the linear band
 };
 
 /// Names of the flags as written in the `flags` column, in bit order.
 inline constexpr std::string_view kFlagNames[] = {
     "time_backwards", "time_duplicate", "gap",          "no_temperature",
     "no_humidity",    "no_gnss",        "ref_window",   "extrapolated",
-    "spike",          "no_base"};
+    "spike",          "no_base",        "linear_band"};
 
 /// A sample in SI units. Optional quantities are NaN when missing.
 struct Sample {

@@ -28,6 +28,15 @@
 // definition 7 (R's default), Q(p) = x_(j) + g (x_(j+1) - x_(j)) with
 // j = floor((n-1) p) (0-based), g = (n-1) p - j.
 //
+// A run fails when the model gives no height for its perturbed pressures
+// (beyond the model's range, or a pressure <= 0 at the top of the
+// atmosphere). Its height is unknown, so it is counted in the tail that
+// widens the band: below every valid run for the lower limit, above every
+// valid run for the upper one. The limits stay conservative; one whose
+// order statistic falls among the failed runs cannot be drawn and is NaN
+// (more than about (1 - P) / 2 of the runs failed). The caller then falls
+// back to the linear band (the height job flags the row linear_band).
+//
 // Random numbers are counter-based (a splitmix64 hash of seed, run, row and
 // stream), so a row's band does not depend on the order in which rows are
 // evaluated or on threads. Normals come from the Box-Muller transform of
@@ -37,6 +46,7 @@
 // and cos.
 #pragma once
 
+#include <cmath>
 #include <cstddef>
 #include <cstdint>
 #include <functional>
@@ -51,7 +61,10 @@ struct MonteCarloBand {
   double low_m = 0.0;          ///< lower band limit, height above the reference [m]
   double high_m = 0.0;         ///< upper band limit [m]
   double sigma_m = 0.0;        ///< sample standard deviation (n - 1) of the valid runs' heights [m]
-  std::size_t valid_runs = 0;  ///< runs that gave a finite height (the others are skipped)
+  std::size_t valid_runs = 0;  ///< runs that gave a finite height (see "A run fails")
+
+  /// Both limits drawn: false when too many runs failed for one of them.
+  bool complete() const { return !std::isnan(low_m) && !std::isnan(high_m); }
 };
 
 /// Height above the reference [m] for a perturbed sample pressure and
@@ -80,7 +93,8 @@ class MonteCarlo {
   /// k = 0..N-1; `pressure_pa`, `reference_pa` and `nominal` are the row's
   /// unperturbed values (nominal.height_m = height(pressure_pa, reference_pa)
   /// in exact arithmetic), `row` its index (any value unique to the row).
-  /// No valid run: all NaN; one valid run: sigma_m NaN.
+  /// No valid run: all NaN; one valid run: sigma_m NaN; a limit that the
+  /// failed runs leave undetermined: NaN (see "A run fails").
   /// Uses a scratch buffer held by the object: allocates on the first call
   /// only, and an instance must not be shared between threads (copy it).
   MonteCarloBand band(const PerturbedHeight& height, double pressure_pa, double reference_pa,
