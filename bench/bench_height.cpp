@@ -2,7 +2,10 @@
 // computes only the isothermal formula, on the same generated log, in the
 // same run. Not a test: it prints figures for docs/performance.md.
 //
-//   baroz_bench [--rows N] [--runs K] [--baroz PATH] [--dir DIR] [--keep]
+//   baroz_bench [--rows N] [--mc-rows M] [--runs K] [--baroz PATH] [--dir DIR] [--keep]
+//
+// Then the --monte-carlo band on a 1 Hz log of M rows (default 10 000, the
+// size the uncertainty issue asks to handle with N = 200 in seconds; 0 skips).
 //
 // Each command reads the log and writes to /dev/null; wall time is measured
 // around posix_spawn + wait4, peak memory is the child's ru_maxrss.
@@ -62,10 +65,11 @@ Measure run_command(const std::vector<std::string>& argv) {
   return m;
 }
 
-/// A 100 Hz log: 60 s at rest at 1013.25 hPa, then a balloon-like climb and
-/// fall between the ground and 30 km (triangle wave, 3 h period), with the
-/// standard temperature and a little deterministic pressure jitter.
-void generate(const std::string& path, long rows) {
+/// A log at `interval_s` (0.01: 100 Hz): 60 s at rest at 1013.25 hPa, then a
+/// balloon-like climb and fall between the ground and 30 km (triangle wave,
+/// 3 h period), with the standard temperature and a little deterministic
+/// pressure jitter.
+void generate(const std::string& path, long rows, double interval_s = 0.01) {
   std::FILE* f = std::fopen(path.c_str(), "w");
   if (!f) {
     std::perror(path.c_str());
@@ -76,7 +80,7 @@ void generate(const std::string& path, long rows) {
   std::setvbuf(f, buf.data(), _IOFBF, buf.size());
   const double period = 3 * 3600.0;
   for (long i = 0; i < rows; ++i) {
-    const double t = static_cast<double>(i) * 0.01;
+    const double t = static_cast<double>(i) * interval_s;
     double z = 0.0;
     if (t > 60.0) {
       const double phase = std::fmod(t - 60.0, period) / period;
@@ -99,6 +103,7 @@ double median(std::vector<double> v) {
 
 int main(int argc, char** argv) {
   long rows = 10'000'000;
+  long mc_rows = 10'000;
   int runs = 5;
   std::string baroz = "./build/baroz";
   std::string dir = std::filesystem::temp_directory_path().string();
@@ -107,12 +112,15 @@ int main(int argc, char** argv) {
     std::string a = argv[i];
     auto next = [&]() -> std::string { return i + 1 < argc ? argv[++i] : ""; };
     if (a == "--rows") rows = std::atol(next().c_str());
+    else if (a == "--mc-rows") mc_rows = std::atol(next().c_str());
     else if (a == "--runs") runs = std::atoi(next().c_str());
     else if (a == "--baroz") baroz = next();
     else if (a == "--dir") dir = next();
     else if (a == "--keep") keep = true;
     else {
-      fmt::print(stderr, "usage: baroz_bench [--rows N] [--runs K] [--baroz PATH] [--dir DIR] [--keep]\n");
+      fmt::print(stderr,
+                 "usage: baroz_bench [--rows N] [--mc-rows M] [--runs K] [--baroz PATH] "
+                 "[--dir DIR] [--keep]\n");
       return 1;
     }
   }
@@ -138,27 +146,50 @@ int main(int argc, char** argv) {
       {"baroz height --model standard --ref-pressure 1013.25 -f ndjson",
        {baroz, "height", "--model", "standard", "--ref-pressure", "1013.25", "-f", "ndjson", log}},
   };
-  fmt::print("{:<62} {:>9} {:>11} {:>9} {:>10}\n", "command (stdout to /dev/null)", "median s",
-             "rows/s", "MB/s", "peak MiB");
-  double mawk_rate = 0.0;
-  for (const auto& c : cases) {
-    std::vector<double> times;
-    long rss = 0;
-    for (int r = 0; r < runs; ++r) {
-      Measure m = run_command(c.argv);
-      if (m.status != 0) {
-        fmt::print(stderr, "{} exited with {}\n", c.name, m.status);
-        return 1;
+  auto table = [&](const std::vector<Case>& list, long n_rows, double size_mb, bool vs_first) {
+    fmt::print("{:<62} {:>9} {:>11} {:>9} {:>10}\n", "command (stdout to /dev/null)", "median s",
+               "rows/s", "MB/s", "peak MiB");
+    double first_rate = 0.0;
+    for (const auto& c : list) {
+      std::vector<double> times;
+      long rss = 0;
+      for (int r = 0; r < runs; ++r) {
+        Measure m = run_command(c.argv);
+        if (m.status != 0) {
+          fmt::print(stderr, "{} exited with {}\n", c.name, m.status);
+          std::exit(1);
+        }
+        times.push_back(m.seconds);
+        rss = std::max(rss, m.max_rss_kib);
       }
-      times.push_back(m.seconds);
-      rss = std::max(rss, m.max_rss_kib);
+      const double t = median(times);
+      const double rate = static_cast<double>(n_rows) / t;
+      if (first_rate == 0.0) first_rate = rate;
+      fmt::print("{:<62} {:>9.3f} {:>11.3e} {:>9.1f} {:>10.1f}", c.name, t, rate, size_mb / t,
+                 static_cast<double>(rss) / 1024.0);
+      if (vs_first) fmt::print("   x{:.2f} vs mawk", rate / first_rate);
+      fmt::print("\n");
     }
-    const double t = median(times);
-    const double rate = static_cast<double>(rows) / t;
-    if (mawk_rate == 0.0) mawk_rate = rate;
-    fmt::print("{:<62} {:>9.3f} {:>11.3e} {:>9.1f} {:>10.1f}   x{:.2f} vs mawk\n", c.name, t,
-               rate, mb / t, static_cast<double>(rss) / 1024.0, rate / mawk_rate);
-  }
+  };
+  table(cases, rows, mb, true);
   if (!keep) std::filesystem::remove(log);
+
+  if (mc_rows > 0) {
+    const std::string mc_log = dir + "/baroz_bench_mc_" + std::to_string(mc_rows) + ".csv";
+    generate(mc_log, mc_rows, 1.0);
+    const double mc_mb = static_cast<double>(std::filesystem::file_size(mc_log)) / 1e6;
+    fmt::print("\nMonte Carlo band: {} ({} rows at 1 Hz, {:.2f} MB)\n\n", mc_log, mc_rows, mc_mb);
+    const std::vector<Case> mc_cases = {
+        {"baroz height (profile, linear band)", {baroz, "height", mc_log}},
+        {"baroz height --monte-carlo 200 (profile)",
+         {baroz, "height", "--monte-carlo", "200", mc_log}},
+        {"baroz height --model standard --monte-carlo 200",
+         {baroz, "height", "--model", "standard", "--monte-carlo", "200", mc_log}},
+        {"baroz height --model standard --monte-carlo 2000",
+         {baroz, "height", "--model", "standard", "--monte-carlo", "2000", mc_log}},
+    };
+    table(mc_cases, mc_rows, mc_mb, false);
+    if (!keep) std::filesystem::remove(mc_log);
+  }
   return 0;
 }
