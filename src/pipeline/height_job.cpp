@@ -206,9 +206,10 @@ void HeightJob::setup_profile_model() {
 
   if (build) {
     const TemperatureProfile& prof = *build->profile;
-    diag_.note(src, fmt::format("profile from {}: {} layers from {} samples, {:.2f} to {:.2f} "
-                                "hPa; {}",
-                                build->source, build->layers, build->samples,
+    diag_.note(src, fmt::format("profile from {}: {} layer{} from {} sample{}, {:.2f} to "
+                                "{:.2f} hPa; {}",
+                                build->source, build->layers, build->layers == 1 ? "" : "s",
+                                build->samples, build->samples == 1 ? "" : "s",
                                 prof.covered_bottom_pa() / 100.0, prof.covered_top_pa() / 100.0,
                                 build->humidity
                                     ? "virtual temperature from the humidity column"
