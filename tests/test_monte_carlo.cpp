@@ -129,6 +129,9 @@ TEST_CASE("monte carlo agrees with the linear budget for a linear model",
   e.dh_dt = 3.0;
   e.dh_dt_random = 2.0;
   e.dh_dtmodel = 0.5;
+  // A profile from the same sensor, moved by the offset: added linearly by
+  // both (error_budget.cpp, monte_carlo.hpp).
+  e.dh_dpprofile = -0.02;
 
   ErrorBudgetOptions o;  // the documented defaults for every sigma
   o.monte_carlo_runs = 20000;

@@ -30,6 +30,33 @@ void ProfileModel::set_profile(TemperatureProfile profile) {
   segment_hint_ = 0;
   ref_segment_hint_ = 0;
   cached_ref_pressure_pa_ = std::numeric_limits<double>::quiet_NaN();  // H(p_ref) changed
+  if (from_sensor_) build_shifted();
+}
+
+void ProfileModel::set_profile_from_sensor(bool on) {
+  from_sensor_ = on;
+  cached_ref_pressure_pa_ = std::numeric_limits<double>::quiet_NaN();
+  if (on) {
+    build_shifted();
+  } else {
+    shifted_.clear();
+  }
+}
+
+void ProfileModel::build_shifted() {
+  const std::vector<ProfileNode>& nodes = profile_.nodes();
+  double lowest = nodes.front().pressure_pa;
+  for (const ProfileNode& node : nodes) lowest = std::fmin(lowest, node.pressure_pa);
+  shift_pa_ = std::fmin(1.0, 1e-4 * lowest);
+  shifted_.clear();
+  for (double sign : {1.0, -1.0}) {
+    std::vector<ProfileNode> moved = nodes;
+    for (ProfileNode& node : moved) node.pressure_pa += sign * shift_pa_;
+    shifted_.emplace_back(std::move(moved), profile_.covered_bottom_pa() + sign * shift_pa_,
+                          profile_.covered_top_pa() + sign * shift_pa_);
+  }
+  shifted_hint_[0] = shifted_hint_[1] = 0;
+  shifted_ref_hint_[0] = shifted_ref_hint_[1] = 0;
 }
 
 bool ProfileModel::update_reference(double p_ref_pa, double datum_geopotential_m) {
@@ -43,6 +70,9 @@ bool ProfileModel::update_reference(double p_ref_pa, double datum_geopotential_m
   ref_slope_ = kRPerG0 * ref.virtual_temperature_k / p_ref_pa;  // -dH/dp at p_ref (hydrostatic)
   ref_extrapolated_ = ref.extrapolated;
   ref_point_ = ref;
+  for (std::size_t k = 0; k < shifted_.size(); ++k)
+    shifted_ref_geopotential_m_[k] =
+        shifted_[k].geopotential_at(p_ref_pa, shifted_ref_hint_[k]).geopotential_m;
   if (std::isnan(datum_geopotential_m)) {
     // The standard atmosphere only places the column in the gravity field.
     const ussa76::Level level = ussa76::level_at_pressure(p_ref_pa);
@@ -93,6 +123,14 @@ HeightEval ProfileModel::evaluate(double pressure_pa, double /*temperature_k*/,
   out.dh_dt_random =
       kRPerG0 * std::sqrt(profile_.random_weight_sum(ref_point_, point)) * zprime_level;
   out.dh_dtmodel = 0.0;
+  if (!shifted_.empty()) {
+    // Central difference in the nodes' common shift (p, p_ref, Hd fixed).
+    double dh_shifted[2];
+    for (std::size_t k = 0; k < 2; ++k)
+      dh_shifted[k] = shifted_[k].geopotential_at(pressure_pa, shifted_hint_[k]).geopotential_m -
+                      shifted_ref_geopotential_m_[k];
+    out.dh_dpprofile = (dh_shifted[0] - dh_shifted[1]) / (2.0 * shift_pa_) * zprime_level;
+  }
   out.extrapolated = point.extrapolated || ref_extrapolated_;
   return out;
 }

@@ -215,6 +215,8 @@ void HeightJob::setup_profile_model() {
                                     ? "virtual temperature from the humidity column"
                                     : "no humidity: dry air"));
     auto model = std::make_unique<ProfileModel>(prof, frame);
+    // A profile from the log's own samples moves with the sensor's offset.
+    model->set_profile_from_sensor(ps.file.empty());
     profile_model_ = model.get();
     model_ = std::move(model);
     report_.profile = std::move(build);
@@ -231,6 +233,7 @@ void HeightJob::setup_profile_model() {
                     "file for a profile from the whole flight)");
     auto model = std::make_unique<ProfileModel>(
         TemperatureProfile({ProfileNode{constants::kP0, constants::kT0, kMissing}}), frame);
+    model->set_profile_from_sensor(true);
     profile_model_ = model.get();
     model_ = std::move(model);
   }

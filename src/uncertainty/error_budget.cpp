@@ -32,8 +32,9 @@ HeightSigma ErrorBudget::evaluate(const HeightEval& e, const BudgetInputs& in) c
   HeightSigma s;
   auto set = [&](ErrorTerm t, double v) { s.term_m[static_cast<std::size_t>(t)] = std::fabs(v); };
   set(ErrorTerm::kSampleNoise, e.dh_dp * options_.sigma_p_pa);
+  // A profile built from the same sensor moves with the offset too.
   set(ErrorTerm::kSensorOffset,
-      (e.dh_dp + (in.offset_common ? e.dh_dpref : 0.0)) * options_.sigma_p_abs_pa);
+      (e.dh_dp + (in.offset_common ? e.dh_dpref : 0.0) + e.dh_dpprofile) * options_.sigma_p_abs_pa);
   set(ErrorTerm::kReference, e.dh_dpref * in.reference_sigma_pa);
   set(ErrorTerm::kTemperature, e.dh_dt * options_.sigma_t_k);
   set(ErrorTerm::kTemperatureRandom, e.dh_dt_random * options_.sigma_t_random_k);

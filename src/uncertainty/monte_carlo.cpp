@@ -115,7 +115,7 @@ MonteCarloBand MonteCarlo::band(const PerturbedHeight& height, double pressure_p
                          s.reference * inputs.reference_sigma_pa + s.drift * inputs.drift_pa;
     const double h = height(p, p_ref);
     if (!std::isfinite(h)) continue;
-    const double deviation = (h - nominal.height_m) +
+    const double deviation = (h - nominal.height_m) + nominal.dh_dpprofile * offset +
                              nominal.dh_dt * (s.temperature * o.sigma_t_k) +
                              nominal.dh_dtmodel * (s.model * o.sigma_t_model_k) +
                              nominal.dh_dt_random * (noise_t * o.sigma_t_random_k);

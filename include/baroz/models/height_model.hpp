@@ -42,6 +42,11 @@ struct HeightEval {
   /// n_i samples (docs/uncertainty.md). 0 when the model uses no measured
   /// temperature.
   double dh_dt_random = 0.0;
+  /// d height / d (one common shift of every pressure the model's
+  /// temperature profile is placed at) [m Pa^-1]: nonzero only for a profile
+  /// whose pressures come from the sample's own sensor, whose absolute
+  /// offset then moves the profile too (ProfileModel::set_profile_from_sensor).
+  double dh_dpprofile = 0.0;
   bool extrapolated = false;      ///< evaluated outside the model's valid range
   bool valid = true;              ///< false: the model cannot give a height (see reason)
   std::string_view reason;        ///< why not valid, e.g. "pressure below the standard atmosphere's range"

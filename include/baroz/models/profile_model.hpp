@@ -32,6 +32,18 @@
 //   layer and add in quadrature across layers: for L equal layers of n
 //   samples dh_dt_random / dh_dt ~ 1/sqrt(n L).
 // - dh_dtmodel = 0 (the profile is the measurement, not a model assumption).
+// - dh_dpprofile: with set_profile_from_sensor(true) (a profile built from
+//   the log itself), the derivative of h with respect to one shift d of
+//   every node pressure (p_i -> p_i + d), with p and p_ref fixed: a sensor
+//   offset moves the nodes with the samples, and h changes by
+//   (dh_dp + dh_dpref + dh_dpprofile) d, not by the first two alone. To
+//   first order dH changes by -(R/g0) d sum_k dT_v,k (1/p_k + 1/p_k+1)/2
+//   over the crossed segments (each segment's temperature slides to lower
+//   ln p); for a lapse of 6.5 K/km that is ~+25 % of the endpoint terms at 5
+//   km (docs/uncertainty.md, "The sensor's absolute offset"). Computed as a
+//   central difference through two copies of the profile with every node
+//   shifted by +-d0, d0 = min(1 Pa, 1e-4 x the lowest node pressure)
+//   (truncation O(d0^2/p^2) < 1e-8 relative); 0 otherwise.
 //
 // extrapolated: p or p_ref outside the profile's covered pressure range
 // (TemperatureProfile::covered_*); the height there uses the standard
@@ -51,6 +63,7 @@
 #pragma once
 
 #include <cstddef>
+#include <vector>
 
 #include "baroz/models/height_model.hpp"
 #include "baroz/models/normal_gravity.hpp"
@@ -82,14 +95,29 @@ class ProfileModel final : public HeightModel {
   /// the next evaluate() uses it.
   void set_profile(TemperatureProfile profile);
   const TemperatureProfile& profile() const { return profile_; }
+  /// The profile's pressures come from the same sensor as the samples (a
+  /// profile built from the log): evaluate() then reports dh_dpprofile
+  /// (two more profile lookups a sample). Off by default (a --profile table
+  /// from another instrument).
+  void set_profile_from_sensor(bool on);
+  bool profile_from_sensor() const { return from_sensor_; }
   const GravityFrame& frame() const { return frame_; }
 
  private:
   // Refreshes the per-reference cache; false when p_ref is out of range.
   bool update_reference(double p_ref_pa, double datum_geopotential_m);
 
+  // The profile with every node pressure shifted by +shift_pa_ and -shift_pa_.
+  void build_shifted();
+
   TemperatureProfile profile_;
   GravityFrame frame_;
+  bool from_sensor_ = false;
+  double shift_pa_ = 0.0;
+  std::vector<TemperatureProfile> shifted_;  // [0]: +shift, [1]: -shift (from_sensor_ only)
+  std::size_t shifted_hint_[2] = {0, 0};
+  std::size_t shifted_ref_hint_[2] = {0, 0};
+  double shifted_ref_geopotential_m_[2] = {0.0, 0.0};  // H(p_ref) through each shifted copy
   double min_pressure_pa_;
   double max_pressure_pa_;
   std::size_t segment_hint_ = 0;      // segment of the last sample

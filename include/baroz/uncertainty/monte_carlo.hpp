@@ -17,10 +17,12 @@
 //     e_p   ~ N(0, sigma_p)               pressure noise
 //     e_t   ~ N(0, sigma_t_random)        temperature noise
 //   h_k = height(p + d_abs + e_p, p_ref + [offset_common] d_abs + d_ref + z_dr drift_pa)
-//         + dh_dt b_t + dh_dtmodel b_m + dh_dt_random e_t.
+//         + dh_dt b_t + dh_dtmodel b_m + dh_dt_random e_t + dh_dpprofile d_abs.
 // The temperature terms are added linearly: for these models the
 // geopotential is exactly linear in each temperature (dZ = (R/g0) T dln p),
-// so only the pressures need the model.
+// so only the pressures need the model. So is the offset's shift of a
+// profile built from the same sensor (dh_dpprofile): a shift of the nodes
+// by d_abs is a small change of where each temperature sits.
 //
 // The band is nominal.height_m plus the empirical quantiles (1-P)/2 and
 // (1+P)/2 (P = confidence) of the deviations h_k - nominal.height_m, with
