@@ -145,6 +145,8 @@ int main(int argc, char** argv) {
       {"baroz height (defaults: auto model, auto reference window)", {baroz, "height", log}},
       {"baroz height --model standard --ref-pressure 1013.25 -f ndjson",
        {baroz, "height", "--model", "standard", "--ref-pressure", "1013.25", "-f", "ndjson", log}},
+      {"cat LOG | baroz height - (a stream: causal profile)",
+       {"sh", "-c", "cat '" + log + "' | '" + baroz + "' height -"}},
   };
   auto table = [&](const std::vector<Case>& list, long n_rows, double size_mb, bool vs_first) {
     fmt::print("{:<62} {:>9} {:>11} {:>9} {:>10}\n", "command (stdout to /dev/null)", "median s",

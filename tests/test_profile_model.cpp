@@ -940,6 +940,82 @@ TEST_CASE("profile builder in causal use: rebuilt as layers open", "[models][pro
   CHECK(hover.revision() != r);
 }
 
+TEST_CASE("profile builder: a noisy climb rebuilds about once per layer",
+          "[models][profile][builder]") {
+  // A 10 Hz climb at 5 m/s (0.5 m a sample) with 3 m of pressure-height
+  // noise: most samples are no new top, so the samples below the top are
+  // collected apart and merged at the next top, re-entering layers the
+  // climb already holds. Those are no new nodes of the ascent (or of both
+  // legs): revision() may change only about once per layer. Source: the
+  // contract of ProfileBuilder::revision(); the noise is invented.
+  const SyntheticAtmosphere& a = synthetic();
+  std::mt19937 rng(7u);
+  std::normal_distribution<double> noise(0.0, 3.0);
+  for (ProfileLeg leg : {ProfileLeg::kAscent, ProfileLeg::kAll}) {
+    ProfileBuilder builder(ProfileOptions{leg, 50.0});
+    std::size_t seen = 0;
+    std::size_t changes = 0;
+    for (int i = 0; i < 20000; ++i) {  // to 10 km
+      const double z = 0.5 * i + noise(rng);
+      builder.add(a.pressure(static_cast<int>(std::lround(std::max(0.0, z)))), 280.0, kNaN);
+      if (builder.revision() != seen) {
+        seen = builder.revision();
+        ++changes;
+      }
+    }
+    INFO("leg " << profile_leg_name(leg) << ": " << changes << " changes, " << builder.layers()
+                << " layers");
+    CHECK(changes <= builder.layers() + 5);
+    CHECK(changes + 5 >= builder.layers());
+  }
+}
+
+TEST_CASE("profile builder: a build after many builds equals a fresh one",
+          "[models][profile][builder]") {
+  // build() keeps the nodes of layers whose samples have not changed since
+  // the last build. Check that repeated causal builds (every 37 samples)
+  // give, at checkpoints, exactly the nodes of a builder fed the same samples
+  // and built once, for every leg, over an ascent to 12 km and a descent
+  // with temperature noise (a hover at the ground, thinning in the layers
+  // of the slow part). Source: by construction (the cache must be exact).
+  const std::vector<FlightSample> flight = synthetic_flight(12000, 0.3, 300);
+  for (ProfileLeg leg : {ProfileLeg::kAscent, ProfileLeg::kDescent, ProfileLeg::kAll}) {
+    ProfileBuilder causal(ProfileOptions{leg, 50.0});
+    std::size_t checked = 0;
+    for (std::size_t i = 0; i < flight.size(); ++i) {
+      causal.add(flight[i].p_pa, flight[i].t_k, flight[i].tv_k);
+      const bool checkpoint = i % 211 == 210 || i + 1 == flight.size();
+      if (i % 37 != 0 && !checkpoint) continue;
+      std::optional<TemperatureProfile> built;
+      try {
+        built.emplace(causal.build());
+      } catch (const Error&) {
+        continue;  // the leg has no sample yet (the descent before the top)
+      }
+      if (!checkpoint) continue;
+      ProfileBuilder fresh(ProfileOptions{leg, 50.0});
+      for (std::size_t j = 0; j <= i; ++j) fresh.add(flight[j].p_pa, flight[j].t_k, flight[j].tv_k);
+      const TemperatureProfile once = fresh.build();
+      INFO("leg " << profile_leg_name(leg) << ", after sample " << i);
+      REQUIRE(built->size() == once.size());
+      for (std::size_t k = 0; k < once.size(); ++k) {
+        const ProfileNode& x = built->nodes()[k];
+        const ProfileNode& y = once.nodes()[k];
+        CHECK(x.pressure_pa == y.pressure_pa);
+        CHECK(x.temperature_k == y.temperature_k);
+        CHECK((x.virtual_temperature_k == y.virtual_temperature_k ||
+               (std::isnan(x.virtual_temperature_k) && std::isnan(y.virtual_temperature_k))));
+        CHECK(x.samples == y.samples);
+        CHECK(x.median == y.median);
+      }
+      CHECK(built->covered_bottom_pa() == once.covered_bottom_pa());
+      CHECK(built->covered_top_pa() == once.covered_top_pa());
+      ++checked;
+    }
+    CHECK(checked >= 3);
+  }
+}
+
 TEST_CASE("profile builder: the layer thickness sets the nodes", "[models][profile][builder]") {
   const std::vector<FlightSample> flight = synthetic_flight(10000, 0.2, 0);
   for (double layer : {20.0, 50.0, 200.0}) {

@@ -387,7 +387,15 @@ void ProfileBuilder::add(double pressure_pa, double temperature_k,
 
 ProfileBuilder::LayerSamples& ProfileBuilder::layer_in(Accumulator& accumulator, int layer) {
   const auto [it, inserted] = accumulator.try_emplace(layer);
-  if (inserted) ++revision_;
+  if (inserted) {
+    // "after" is emptied at every new top and refilled by the samples below
+    // it: a layer it regains that "before" holds is no new node of the
+    // ascent or of both legs (counting it made a rebuild every few samples
+    // of a noisy climb), but is one of the descent leg.
+    const Accumulator& other = &accumulator == &before_ ? after_ : before_;
+    if (other.count(layer) == 0) ++revision_union_;
+    if (&accumulator == &after_) ++revision_after_;
+  }
   return it->second;
 }
 
@@ -402,6 +410,7 @@ void ProfileBuilder::release(const Released& sample) {
         for (std::size_t c = 0; c < samples.stride; ++c) target.add(entry);
       }
       target.samples += samples.samples;
+      target.version = ++version_clock_;
     }
     after_.clear();
     before_samples_ += after_samples_;
@@ -410,11 +419,13 @@ void ProfileBuilder::release(const Released& sample) {
     LayerSamples& target = layer_in(before_, sample.layer);
     target.add(sample.entry);
     ++target.samples;
+    target.version = ++version_clock_;
     ++before_samples_;
   } else {
     LayerSamples& target = layer_in(after_, sample.layer);
     target.add(sample.entry);
     ++target.samples;
+    target.version = ++version_clock_;
     ++after_samples_;
   }
 }
@@ -438,34 +449,6 @@ ProfileBuilder::Tail ProfileBuilder::pending_tail() const {
     }
   }
   return tail;
-}
-
-std::map<int, std::vector<std::pair<ProfileBuilder::Entry, double>>> ProfileBuilder::gather(
-    const Tail& tail) const {
-  std::map<int, std::vector<std::pair<Entry, double>>> out;
-  auto put_accumulator = [&out](const Accumulator& accumulator) {
-    for (const auto& [layer, samples] : accumulator) {
-      auto& target = out[layer];
-      for (const Entry& entry : samples.values) {
-        target.emplace_back(entry, static_cast<double>(samples.stride));
-      }
-    }
-  };
-  auto put_pending = [&out](const Pending& pending) {
-    for (const Released& sample : pending) out[sample.layer].emplace_back(sample.entry, 1.0);
-  };
-  const bool use_before = options_.leg != ProfileLeg::kDescent;
-  const bool use_after = options_.leg != ProfileLeg::kAscent;
-  if (use_before) {
-    put_accumulator(before_);
-    if (tail.merged) put_accumulator(after_);
-    put_pending(tail.before);
-  }
-  if (use_after) {
-    if (!tail.merged) put_accumulator(after_);
-    put_pending(tail.after);
-  }
-  return out;
 }
 
 std::size_t ProfileBuilder::samples_used() const {
@@ -531,8 +514,9 @@ std::size_t ProfileBuilder::layers() const {
 }
 
 std::size_t ProfileBuilder::revision() const {
-  // Layers opened by released samples, plus those the pending tail would
-  // open (a layer in neither accumulator).
+  // Layers opened by released samples (in either accumulator; for the
+  // descent leg, in "after"), plus those the pending tail would open (a
+  // layer in neither accumulator).
   const Tail tail = pending_tail();
   std::array<int, kPressureWindow> opened{};
   std::size_t n = 0;
@@ -545,7 +529,7 @@ std::size_t ProfileBuilder::revision() const {
       }
     }
   }
-  return revision_ + n;
+  return (options_.leg == ProfileLeg::kDescent ? revision_after_ : revision_union_) + n;
 }
 
 double ProfileBuilder::top_pressure_pa() const {
@@ -562,37 +546,95 @@ std::size_t ProfileBuilder::stored_values() const {
 }
 
 TemperatureProfile ProfileBuilder::build() const {
-  const auto layers = gather(pending_tail());
-  if (layers.empty()) {
+  // The sources of the chosen leg, as release() would have them after the
+  // pending tail (a pending new top moves "after" to "before").
+  const Tail tail = pending_tail();
+  const bool use_before = options_.leg != ProfileLeg::kDescent;
+  const bool use_after = options_.leg != ProfileLeg::kAscent;
+  const Accumulator* first = use_before ? &before_ : nullptr;
+  const Accumulator* second =
+      (use_before && tail.merged) || (use_after && !tail.merged) ? &after_ : nullptr;
+  Pending pending;
+  if (use_before)
+    for (const Released& sample : tail.before) pending.push_back(sample);
+  if (use_after)
+    for (const Released& sample : tail.after) pending.push_back(sample);
+
+  std::vector<int> keys;
+  for (const Accumulator* accumulator : {first, second}) {
+    if (!accumulator) continue;
+    for (const auto& entry : *accumulator) keys.push_back(entry.first);
+  }
+  for (const Released& sample : pending) keys.push_back(sample.layer);
+  std::sort(keys.begin(), keys.end());
+  keys.erase(std::unique(keys.begin(), keys.end()), keys.end());
+  if (keys.empty()) {
     throw input_error(fmt::format("profile leg '{}' has no usable temperature sample",
                                   profile_leg_name(options_.leg)));
   }
-  std::vector<ProfileNode> nodes;
-  nodes.reserve(layers.size());
+
+  auto find = [](const Accumulator* accumulator, int layer) -> const LayerSamples* {
+    if (!accumulator) return nullptr;
+    const auto it = accumulator->find(layer);
+    return it == accumulator->end() ? nullptr : &it->second;
+  };
+  // The values of one layer with their weights (a stored value stands for
+  // `stride` samples, a pending one for itself), then the medians of each
+  // channel.
+  std::vector<std::pair<Entry, double>> entries;
   std::vector<std::pair<double, double>> scratch;
-  auto median_of = [&scratch](const std::vector<std::pair<Entry, double>>& entries,
-                              double Entry::*channel) {
+  auto median_of = [&](double Entry::*channel) {
     scratch.clear();
     for (const auto& [entry, weight] : entries) scratch.emplace_back(entry.*channel, weight);
     return weighted_median(scratch);
   };
   constexpr std::size_t kMaxSamples = std::numeric_limits<std::uint32_t>::max();
-  for (const auto& [layer, entries] : layers) {
+  std::vector<ProfileNode> nodes;
+  nodes.reserve(keys.size());
+  for (int layer : keys) {
+    const LayerSamples* b = find(first, layer);
+    const LayerSamples* a = find(second, layer);
+    const bool has_pending = std::any_of(pending.begin(), pending.end(),
+                                         [layer](const Released& r) { return r.layer == layer; });
+    const std::uint64_t b_version = b ? b->version : 0;
+    const std::uint64_t a_version = a ? a->version : 0;
+    // A layer whose sources have not changed since the last build keeps its
+    // node: a causal rebuild recomputes only the layers the new samples
+    // reached (cost O(layers) plus those layers' values, not every value).
+    const auto cached = node_cache_.find(layer);
+    if (!has_pending && cached != node_cache_.end() && cached->second.before_version == b_version &&
+        cached->second.after_version == a_version) {
+      nodes.push_back(cached->second.node);
+      continue;
+    }
+    entries.clear();
+    for (const LayerSamples* source : {b, a}) {
+      if (!source) continue;
+      for (const Entry& entry : source->values)
+        entries.emplace_back(entry, static_cast<double>(source->stride));
+    }
+    for (const Released& sample : pending)
+      if (sample.layer == layer) entries.emplace_back(sample.entry, 1.0);
     // One node per layer: the medians of T, T_v and ln p.
     // `samples`: the values the medians are of (thinned-out samples do not
     // enter them, so they do not average the random error down).
-    nodes.push_back(ProfileNode{std::exp(median_of(entries, &Entry::log_pressure)),
-                                median_of(entries, &Entry::temperature_k),
-                                median_of(entries, &Entry::virtual_temperature_k),
-                                static_cast<std::uint32_t>(std::min(entries.size(), kMaxSamples)),
-                                true});
+    const ProfileNode node{std::exp(median_of(&Entry::log_pressure)),
+                           median_of(&Entry::temperature_k),
+                           median_of(&Entry::virtual_temperature_k),
+                           static_cast<std::uint32_t>(std::min(entries.size(), kMaxSamples)), true};
+    nodes.push_back(node);
+    if (has_pending) {
+      node_cache_.erase(layer);  // the pending samples will be released into it
+    } else {
+      node_cache_[layer] = CachedNode{b_version, a_version, node};
+    }
   }
   // Covered: from the lower bound of the lowest layer to the upper bound of
   // the highest one.
   const double covered_bottom =
-      ussa76::pressure_at(options_.layer_m * static_cast<double>(layers.begin()->first));
+      ussa76::pressure_at(options_.layer_m * static_cast<double>(keys.front()));
   const double covered_top =
-      ussa76::pressure_at(options_.layer_m * static_cast<double>(layers.rbegin()->first + 1));
+      ussa76::pressure_at(options_.layer_m * static_cast<double>(keys.back() + 1));
   return TemperatureProfile(std::move(nodes), covered_bottom, covered_top);
 }
 

@@ -284,8 +284,9 @@ class ProfileBuilder {
   std::size_t stored_values() const;
   /// A counter that changes whenever a sample (also one of the pending
   /// tail) opens a layer that was not populated before, i.e. whenever the
-  /// profile of some leg may gain a node. Causal use: rebuild when it has
-  /// changed, e.g.
+  /// profile of the chosen leg may gain a node: a layer new to both legs'
+  /// samples (ascent, all), or new to the samples after the top (descent).
+  /// Causal use: rebuild when it has changed, e.g.
   ///   if (builder.revision() != seen) { model.set_profile(builder.build()); seen = builder.revision(); }
   /// Cheap (the pending tail of at most 2 samples is classified); no
   /// allocation.
@@ -308,7 +309,15 @@ class ProfileBuilder {
     std::size_t stride = 1;    // samples each stored value stands for
     std::size_t arrivals = 0;  // weighted arrivals so far (thinning clock)
     std::size_t samples = 0;   // samples represented
+    std::uint64_t version = 0;  // the builder's version_clock_ at the last change (0: never)
     void add(const Entry& entry);
+  };
+  // A layer's node as the last build() made it, from the layer's sources at
+  // these versions (0: the source had no such layer).
+  struct CachedNode {
+    std::uint64_t before_version = 0;
+    std::uint64_t after_version = 0;
+    ProfileNode node;
   };
   using Accumulator = std::map<int, LayerSamples>;
   // A classified sample not yet in an accumulator (the pending tail).
@@ -339,11 +348,9 @@ class ProfileBuilder {
   // all within the ring).
   double window_median(std::size_t first, std::size_t last) const;
   void release(const Released& sample);
-  // The layer of an accumulator, created (revision_ counted) if new.
+  // The layer of an accumulator, created (and counted for revision()) if new.
   LayerSamples& layer_in(Accumulator& accumulator, int layer);
   Tail pending_tail() const;
-  // The weighted entries of the chosen leg, per layer.
-  std::map<int, std::vector<std::pair<Entry, double>>> gather(const Tail& tail) const;
 
   ProfileOptions options_;
   // Ring of the last kPressureWindow usable raw samples; count_ of them so far.
@@ -357,7 +364,12 @@ class ProfileBuilder {
   std::size_t seen_ = 0;
   std::size_t skipped_no_temperature_ = 0;
   std::size_t skipped_out_of_range_ = 0;
-  std::size_t revision_ = 0;
+  std::size_t revision_union_ = 0;   // layers new to before_ and after_ together
+  std::size_t revision_after_ = 0;   // layers new to after_ (refilled after each top)
+  std::uint64_t version_clock_ = 0;  // stamps LayerSamples::version, never reused
+  // Nodes of unchanged layers, reused by the next build() (a cache: build()
+  // stays const; the builder is not shared between threads).
+  mutable std::map<int, CachedNode> node_cache_;
 };
 
 }  // namespace baroz
