@@ -453,7 +453,7 @@ ProfileBuilder::Tail ProfileBuilder::pending_tail() const {
 
 std::size_t ProfileBuilder::samples_used() const {
   const Tail tail = pending_tail();
-  // As gather(): a pending new top moves "after" to "before".
+  // As build(): a pending new top moves "after" to "before".
   const std::size_t before =
       before_samples_ + (tail.merged ? after_samples_ : 0) + tail.before.size();
   const std::size_t after = (tail.merged ? 0 : after_samples_) + tail.after.size();
@@ -469,7 +469,7 @@ std::size_t ProfileBuilder::samples_used() const {
 }
 
 std::size_t ProfileBuilder::layers() const {
-  // The keys gather() would produce, without copying the values.
+  // The layers build() would make nodes of, without touching the values.
   const Tail tail = pending_tail();
   const bool use_before = options_.leg != ProfileLeg::kDescent;
   const bool use_after = options_.leg != ProfileLeg::kAscent;
