@@ -411,6 +411,13 @@ TEST_CASE("a sensor offset moves a profile built from the same sensor", "[uncert
     CHECK(g.height_m == e.height_m);
     CHECK(g.dh_dp == e.dh_dp);
     if (p == p_ref) CHECK(std::fabs(e.dh_dpprofile) <= 1e-12);  // no column between them
+    // The Monte Carlo runs' height-only evaluation gives the same height.
+    // Source: height_model.hpp (evaluate_height).
+    const HeightEval h = model.evaluate_height(p, kNaN, ref);
+    CHECK(h.valid);
+    CHECK(h.height_m == e.height_m);
+    CHECK(h.geopotential_m == e.geopotential_m);
+    CHECK(h.extrapolated == e.extrapolated);
   }
 
   // The shift moves every node to a higher pressure, a lower level: in the

@@ -90,6 +90,15 @@ bool ProfileModel::update_reference(double p_ref_pa, double datum_geopotential_m
 
 HeightEval ProfileModel::evaluate(double pressure_pa, double /*temperature_k*/,
                                   const ReferencePoint& ref) {
+  return evaluate(pressure_pa, ref, true);
+}
+
+HeightEval ProfileModel::evaluate_height(double pressure_pa, double /*temperature_k*/,
+                                         const ReferencePoint& ref) {
+  return evaluate(pressure_pa, ref, false);
+}
+
+HeightEval ProfileModel::evaluate(double pressure_pa, const ReferencePoint& ref, bool derivatives) {
   HeightEval out;
   if (!(pressure_pa >= min_pressure_pa_ && pressure_pa <= max_pressure_pa_)) {
     out.valid = false;
@@ -112,6 +121,8 @@ HeightEval ProfileModel::evaluate(double pressure_pa, double /*temperature_k*/,
   out.geopotential_m = dh_geo;
   // USSA76 eq. 18 (or its WGS 84 form): h = Z(Hd + dH) - Z(Hd).
   out.height_m = frame_.geometric_height_difference(datum_geopotential_m_, dh_geo);
+  out.extrapolated = point.extrapolated || ref_extrapolated_;
+  if (!derivatives) return out;
 
   // Hydrostatic equation: dH/dp = -R T_v(p) / (g0 p).
   out.dh_dp = -(kRPerG0 * point.virtual_temperature_k / pressure_pa) * zprime_level;
@@ -131,7 +142,6 @@ HeightEval ProfileModel::evaluate(double pressure_pa, double /*temperature_k*/,
                       shifted_ref_geopotential_m_[k];
     out.dh_dpprofile = (dh_shifted[0] - dh_shifted[1]) / (2.0 * shift_pa_) * zprime_level;
   }
-  out.extrapolated = point.extrapolated || ref_extrapolated_;
   return out;
 }
 

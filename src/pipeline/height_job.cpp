@@ -53,8 +53,10 @@ class HeightJob {
   void write_out(SeriesRow& row);
   void drain_smoother(bool finish);
   bool emit(Sample& sample, bool in_window);
-  HeightEval evaluate_height(double pressure_pa, double temperature_k, double reference_pa,
-                             double& altitude_m);
+  // The model (or the altimeter relation) at one sample; without the
+  // derivatives for the Monte Carlo runs, which need the height only.
+  HeightEval evaluate_sample(double pressure_pa, double temperature_k, double reference_pa,
+                             double& altitude_m, bool derivatives = true);
   void hold(const Sample& sample);
   bool release_held();
   void start_writer(bool time_is_number);
@@ -437,7 +439,7 @@ bool HeightJob::emit(Sample& s, bool in_window) {
                      "top; on a stream the rows before it cannot use it)"
                    : "no temperature sample has arrived yet to build the profile from";
   } else {
-    e = evaluate_height(s.pressure_pa, s.temperature_k, reference_pa, altitude);
+    e = evaluate_sample(s.pressure_pa, s.temperature_k, reference_pa, altitude);
   }
   if (!e.valid) {
     problem_.reason =
@@ -477,7 +479,7 @@ bool HeightJob::emit(Sample& s, bool in_window) {
     const MonteCarloBand mc = monte_carlo_->band(
         [&](double p, double p_ref) {
           double unused = kMissing;
-          const HeightEval h = evaluate_height(p, temperature, p_ref, unused);
+          const HeightEval h = evaluate_sample(p, temperature, p_ref, unused, false);
           return h.valid ? h.height_m : kMissing;
         },
         s.pressure_pa, reference_pa, e, inputs, report_.rows_read);
@@ -521,7 +523,8 @@ bool HeightJob::emit(Sample& s, bool in_window) {
   return true;
 }
 
-HeightEval HeightJob::evaluate_height(double p, double t, double reference_pa, double& altitude) {
+HeightEval HeightJob::evaluate_sample(double p, double t, double reference_pa, double& altitude,
+                                      bool derivatives) {
   HeightEval e;
   altitude = kMissing;
   if (altimeter_) {
@@ -552,7 +555,7 @@ HeightEval HeightJob::evaluate_height(double p, double t, double reference_pa, d
   }
   ReferencePoint ref = reference_.point;
   ref.pressure_pa = reference_pa;
-  e = model_->evaluate(p, t, ref);
+  e = derivatives ? model_->evaluate(p, t, ref) : model_->evaluate_height(p, t, ref);
   if (e.valid && !std::isnan(elevation_m_)) altitude = elevation_m_ + e.height_m;
   return e;
 }

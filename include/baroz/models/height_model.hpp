@@ -72,6 +72,13 @@ class HeightModel {
   /// `temperature_k` [K] (NaN when unknown) above `ref`.
   virtual HeightEval evaluate(double pressure_pa, double temperature_k,
                               const ReferencePoint& ref) = 0;
+  /// As evaluate(), but only height_m, geopotential_m, valid, reason and
+  /// extrapolated need be filled (the Monte Carlo runs, one per run and
+  /// row). A model whose derivatives cost extra work skips it here.
+  virtual HeightEval evaluate_height(double pressure_pa, double temperature_k,
+                                     const ReferencePoint& ref) {
+    return evaluate(pressure_pa, temperature_k, ref);
+  }
 };
 
 }  // namespace baroz

@@ -90,6 +90,10 @@ class ProfileModel final : public HeightModel {
   /// `pressure_pa` [Pa]; `temperature_k` is ignored; `ref.temperature_k` is
   /// ignored; see the file comment for the rest.
   HeightEval evaluate(double pressure_pa, double temperature_k, const ReferencePoint& ref) override;
+  /// The height without dh_dt_random and dh_dpprofile (no lookups in the
+  /// shifted copies): for the Monte Carlo runs.
+  HeightEval evaluate_height(double pressure_pa, double temperature_k,
+                             const ReferencePoint& ref) override;
 
   /// Replaces the profile (causal use: a profile rebuilt as data arrive);
   /// the next evaluate() uses it.
@@ -104,6 +108,7 @@ class ProfileModel final : public HeightModel {
   const GravityFrame& frame() const { return frame_; }
 
  private:
+  HeightEval evaluate(double pressure_pa, const ReferencePoint& ref, bool derivatives);
   // Refreshes the per-reference cache; false when p_ref is out of range.
   bool update_reference(double p_ref_pa, double datum_geopotential_m);
 
