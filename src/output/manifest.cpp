@@ -214,10 +214,10 @@ void write_uncertainty(JsonWriter& j, const HeightReport& r) {
   j.begin_object();
   j.key("band"); j.value(r.band_method);
   j.key("monte_carlo");
-  if (r.band_method != "linear") {
+  if (r.monte_carlo) {
     j.begin_object();
-    j.key("rows_with_failed_runs"); j.value(r.monte_carlo_failed_rows);
-    j.key("rows_linear_band"); j.value(r.linear_band_rows);
+    j.key("rows_with_failed_runs"); j.value(r.monte_carlo->with_failed_runs);
+    j.key("rows_linear_band"); j.value(r.monte_carlo->linear_band);
     j.end_object();
   } else {
     j.null();

@@ -483,13 +483,13 @@ bool HeightJob::emit(Sample& s, bool in_window) {
           return h.valid ? h.height_m : kMissing;
         },
         s.pressure_pa, reference_pa, e, inputs, report_.rows_read);
-    if (mc.valid_runs < monte_carlo_->runs()) ++report_.monte_carlo_failed_rows;
+    if (mc.valid_runs < monte_carlo_->runs()) ++report_.monte_carlo->with_failed_runs;
     if (mc.complete()) {
       low = mc.low_m;
       high = mc.high_m;
     } else {  // too many runs went past the model's edge: keep the linear band
       s.flags |= kFlagLinearBand;
-      ++report_.linear_band_rows;
+      ++report_.monte_carlo->linear_band;
     }
   }
 
@@ -718,6 +718,7 @@ HeightReport HeightJob::run() {
   report_.coverage_factor = budget_->coverage_factor();
   if (options_.budget.monte_carlo_runs > 0) {
     monte_carlo_ = std::make_unique<MonteCarlo>(options_.budget);
+    report_.monte_carlo.emplace();
     report_.band_method = fmt::format("monte carlo ({} runs, seed {})",
                                       options_.budget.monte_carlo_runs, options_.budget.seed);
     diag_.note(input_.name(),
@@ -800,13 +801,14 @@ HeightReport HeightJob::run() {
   if (!writer_started) start_writer(true);
   drain_smoother(true);
   writer_->flush();
-  if (report_.monte_carlo_failed_rows > 0) {
-    diag_.note(input_.name(),
-               fmt::format("Monte Carlo: in {} rows some runs gave no height (their perturbed "
-                           "pressure left the model's range); they count in the tail that "
-                           "widens the band. {} rows, where too many failed to draw a limit, "
-                           "carry the linear band instead (flag linear_band)",
-                           report_.monte_carlo_failed_rows, report_.linear_band_rows));
+  if (report_.monte_carlo && report_.monte_carlo->with_failed_runs > 0) {
+    diag_.note(
+        input_.name(),
+        fmt::format("Monte Carlo: in {} rows some runs gave no height (their perturbed "
+                    "pressure left the model's range); they count in the tail that "
+                    "widens the band. {} rows, where too many failed to draw a limit, "
+                    "carry the linear band instead (flag linear_band)",
+                    report_.monte_carlo->with_failed_runs, report_.monte_carlo->linear_band));
   }
   if (collect_) {
     collect_->source = input_.name();

@@ -52,13 +52,14 @@ std::pair<double, double> normal_pair(std::uint64_t state, std::uint64_t i) {
 /// of the n values at `x` (reordered), interpolating linearly between the
 /// order statistics floor(h) and floor(h) + 1: Hyndman & Fan definition 7
 /// when h = (n - 1) p. The lowest `start` values must already be the `start`
-/// smallest, in place. Leaves x[j] as the j-th order statistic (j = floor(h)).
+/// smallest, in place. Leaves x[j] as the j-th order statistic (j = floor(h)),
+/// and stores j in *j_out when given.
 double order_statistic(double* x, std::size_t n, std::size_t start, double h, std::size_t* j_out) {
   std::size_t j = static_cast<std::size_t>(std::floor(h));
   if (j > n - 1) j = n - 1;
   const double g = h - static_cast<double>(j);
   if (j >= start) std::nth_element(x + start, x + j, x + n);
-  *j_out = j;
+  if (j_out) *j_out = j;
   const double xj = x[j];
   if (g <= 0.0 || j + 1 >= n) return xj;
   const double xj1 = *std::min_element(x + j + 1, x + n);
@@ -150,11 +151,9 @@ MonteCarloBand MonteCarlo::band(const PerturbedHeight& height, double pressure_p
     // needs the rest when its position is beyond them.
     start_high = j_low + 1;
   }
-  if (h_high <= last) {
-    std::size_t j_high = 0;
+  if (h_high <= last)
     band.high_m =
-        nominal.height_m + order_statistic(scratch.data(), m, start_high, h_high, &j_high);
-  }
+        nominal.height_m + order_statistic(scratch.data(), m, start_high, h_high, nullptr);
   return band;
 }
 

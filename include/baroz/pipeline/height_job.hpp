@@ -87,8 +87,13 @@ struct HeightReport {
   double sigma_ref_pa = kMissing;          ///< sigma_ref used (given or the reference's default)
   std::string sigma_ref_source;            ///< "option" or how the default was formed
   std::string band_method;                 ///< "linear" or "monte carlo (N runs, seed S)"
-  std::uint64_t monte_carlo_failed_rows = 0;  ///< rows where a run gave no height
-  std::uint64_t linear_band_rows = 0;      ///< rows flagged linear_band
+  /// --monte-carlo N: the rows where some runs gave no height, and those
+  /// of them flagged linear_band (a limit could not be drawn).
+  struct MonteCarloRows {
+    std::uint64_t with_failed_runs = 0;
+    std::uint64_t linear_band = 0;
+  };
+  std::optional<MonteCarloRows> monte_carlo;  ///< set with --monte-carlo N
   BudgetPoint budget_at_max;               ///< at the row of the maximum height
   BudgetPoint budget_at_end;               ///< at the last row
   TimeNs first_time_ns = 0;
