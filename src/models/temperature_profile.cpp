@@ -468,49 +468,36 @@ std::size_t ProfileBuilder::samples_used() const {
   return 0;
 }
 
-std::size_t ProfileBuilder::layers() const {
-  // The layers build() would make nodes of, without touching the values.
+ProfileBuilder::LegSources ProfileBuilder::leg_sources() const {
+  // As release() would have them after the pending tail (a pending new top
+  // moves "after" to "before").
   const Tail tail = pending_tail();
   const bool use_before = options_.leg != ProfileLeg::kDescent;
   const bool use_after = options_.leg != ProfileLeg::kAscent;
-  std::vector<const Accumulator*> accumulators;
-  std::vector<int> pending;  // (layers() is not a per-sample call)
-  if (use_before) {
-    accumulators.push_back(&before_);
-    if (tail.merged) accumulators.push_back(&after_);
-    for (const Released& sample : tail.before) pending.push_back(sample.layer);
+  LegSources sources;
+  sources.first = use_before ? &before_ : nullptr;
+  sources.second = (use_before && tail.merged) || (use_after && !tail.merged) ? &after_ : nullptr;
+  if (use_before)
+    for (const Released& sample : tail.before) sources.pending.push_back(sample);
+  if (use_after)
+    for (const Released& sample : tail.after) sources.pending.push_back(sample);
+  return sources;
+}
+
+std::vector<int> ProfileBuilder::layer_keys(const LegSources& sources) {
+  std::vector<int> keys;
+  for (const Accumulator* accumulator : {sources.first, sources.second}) {
+    if (!accumulator) continue;
+    for (const auto& entry : *accumulator) keys.push_back(entry.first);
   }
-  if (use_after) {
-    if (!tail.merged) accumulators.push_back(&after_);
-    for (const Released& sample : tail.after) pending.push_back(sample.layer);
-  }
-  std::size_t n = 0;
-  if (accumulators.size() == 2) {
-    // Union of the keys of two sorted maps.
-    auto a = accumulators[0]->begin();
-    auto b = accumulators[1]->begin();
-    while (a != accumulators[0]->end() || b != accumulators[1]->end()) {
-      ++n;
-      if (b == accumulators[1]->end() || (a != accumulators[0]->end() && a->first < b->first)) {
-        ++a;
-      } else if (a == accumulators[0]->end() || b->first < a->first) {
-        ++b;
-      } else {
-        ++a;
-        ++b;
-      }
-    }
-  } else if (accumulators.size() == 1) {
-    n = accumulators[0]->size();
-  }
-  std::sort(pending.begin(), pending.end());
-  pending.erase(std::unique(pending.begin(), pending.end()), pending.end());
-  for (int layer : pending) {
-    const bool known = std::any_of(accumulators.begin(), accumulators.end(),
-                                   [layer](const Accumulator* acc) { return acc->count(layer) > 0; });
-    if (!known) ++n;
-  }
-  return n;
+  for (const Released& sample : sources.pending) keys.push_back(sample.layer);
+  std::sort(keys.begin(), keys.end());
+  keys.erase(std::unique(keys.begin(), keys.end()), keys.end());
+  return keys;
+}
+
+std::size_t ProfileBuilder::layers() const {
+  return layer_keys(leg_sources()).size();  // (not a per-sample call)
 }
 
 std::size_t ProfileBuilder::revision() const {
@@ -546,28 +533,11 @@ std::size_t ProfileBuilder::stored_values() const {
 }
 
 TemperatureProfile ProfileBuilder::build() const {
-  // The sources of the chosen leg, as release() would have them after the
-  // pending tail (a pending new top moves "after" to "before").
-  const Tail tail = pending_tail();
-  const bool use_before = options_.leg != ProfileLeg::kDescent;
-  const bool use_after = options_.leg != ProfileLeg::kAscent;
-  const Accumulator* first = use_before ? &before_ : nullptr;
-  const Accumulator* second =
-      (use_before && tail.merged) || (use_after && !tail.merged) ? &after_ : nullptr;
-  Pending pending;
-  if (use_before)
-    for (const Released& sample : tail.before) pending.push_back(sample);
-  if (use_after)
-    for (const Released& sample : tail.after) pending.push_back(sample);
-
-  std::vector<int> keys;
-  for (const Accumulator* accumulator : {first, second}) {
-    if (!accumulator) continue;
-    for (const auto& entry : *accumulator) keys.push_back(entry.first);
-  }
-  for (const Released& sample : pending) keys.push_back(sample.layer);
-  std::sort(keys.begin(), keys.end());
-  keys.erase(std::unique(keys.begin(), keys.end()), keys.end());
+  const LegSources sources = leg_sources();
+  const Accumulator* first = sources.first;
+  const Accumulator* second = sources.second;
+  const Pending& pending = sources.pending;
+  const std::vector<int> keys = layer_keys(sources);
   if (keys.empty()) {
     throw input_error(fmt::format("profile leg '{}' has no usable temperature sample",
                                   profile_leg_name(options_.leg)));

@@ -351,6 +351,16 @@ class ProfileBuilder {
   // The layer of an accumulator, created (and counted for revision()) if new.
   LayerSamples& layer_in(Accumulator& accumulator, int layer);
   Tail pending_tail() const;
+  // What the chosen leg's profile is made of now: up to two accumulators
+  // and the pending samples it takes.
+  struct LegSources {
+    const Accumulator* first = nullptr;   // "before" (ascent, all)
+    const Accumulator* second = nullptr;  // "after" (descent, all; ascent on a pending new top)
+    Pending pending;
+  };
+  LegSources leg_sources() const;
+  // The populated layers of `sources`, ascending.
+  static std::vector<int> layer_keys(const LegSources& sources);
 
   ProfileOptions options_;
   // Ring of the last kPressureWindow usable raw samples; count_ of them so far.
