@@ -74,6 +74,16 @@ double lower_half(const MonteCarloBand& b, const HeightEval& e) {
   return e.height_m - b.low_m;
 }
 
+/// A band's valid runs, limits and sd, to 1e-14 relative (exact
+/// arithmetic on the small replayed sets).
+void check_band(const MonteCarloBand& b, std::size_t valid, double low, double high, double sd) {
+  CHECK(b.valid_runs == valid);
+  CHECK(b.complete());
+  CHECK(b.low_m == Approx(low).epsilon(1e-14));
+  CHECK(b.high_m == Approx(high).epsilon(1e-14));
+  CHECK(b.sigma_m == Approx(sd).epsilon(1e-14));
+}
+
 }  // namespace
 
 TEST_CASE("monte carlo normals are standard normal", "[uncertainty][montecarlo]") {
@@ -408,11 +418,7 @@ TEST_CASE("monte carlo quantiles follow Hyndman and Fan definition 7",
   values = {5.0, 6.0, 1.0, 4.0, 2.0, 3.0};
   next = 0;
   const MonteCarloBand full = mc.band(replay, 1000.0, 1000.0, zero, quiet_inputs(), 0);
-  CHECK(full.valid_runs == 6);
-  CHECK(full.complete());
-  CHECK(full.low_m == Approx(2.0).epsilon(1e-14));
-  CHECK(full.high_m == Approx(5.0).epsilon(1e-14));
-  CHECK(full.sigma_m == Approx(std::sqrt(3.5)).epsilon(1e-14));
+  check_band(full, 6, 2.0, 5.0, std::sqrt(3.5));
   ErrorBudgetOptions half = o;
   half.confidence = 0.5;
   const MonteCarlo mc_half(half);
@@ -429,11 +435,7 @@ TEST_CASE("monte carlo quantiles follow Hyndman and Fan definition 7",
   values = {5.0, kNaN, 1.0, 4.0, 2.0, 3.0};
   next = 0;
   const MonteCarloBand b = mc.band(replay, 1000.0, 1000.0, zero, quiet_inputs(), 0);
-  CHECK(b.valid_runs == 5);
-  CHECK(b.complete());
-  CHECK(b.low_m == Approx(1.0).epsilon(1e-14));
-  CHECK(b.high_m == Approx(5.0).epsilon(1e-14));
-  CHECK(b.sigma_m == Approx(std::sqrt(2.5)).epsilon(1e-14));
+  check_band(b, 5, 1.0, 5.0, std::sqrt(2.5));
 
   // The limits are the quantiles of the runs' heights: the deviations are
   // taken from the nominal height and added back to it, so another nominal
